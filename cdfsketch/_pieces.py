@@ -1,0 +1,425 @@
+"""The piece table: one exact description of a sketch's CDF that every
+operation (cdf, pdf, ppf, moments, the sampler, the spec) reads.
+
+A CDF is cut into
+
+* polynomial pieces on ``[xa, xa + h)`` with ``F = c0 + c1 t + c2 t² + c3 t³``
+  and ``t = (x - xa) / h`` — the segments between knots (linear or monotone
+  cubic) and bounded tails;
+* atoms, where two knots share an ``x`` (between two pieces);
+* at most one exponential tail on each side.
+
+Only numpy is imported here.
+"""
+
+from __future__ import annotations
+
+import math
+from dataclasses import dataclass
+
+import numpy as np
+
+from .knots import KnotError
+from .tails import BoundedTail, ExponentialTail, Tail
+
+INTERPOLATIONS = ("linear", "pchip")
+
+
+@dataclass(frozen=True)
+class ExpTail:
+    """A resolved exponential tail: it leaves ``edge`` with ``mass`` and ``scale``."""
+
+    edge: float
+    mass: float
+    scale: float
+
+
+@dataclass(frozen=True, eq=False)
+class Pieces:
+    xa: np.ndarray
+    h: np.ndarray
+    c: np.ndarray  # shape (4, m)
+    pl: np.ndarray
+    pr: np.ndarray
+    atom_x: np.ndarray
+    atom_mass: np.ndarray
+    lower: ExpTail | None
+    upper: ExpTail | None
+    p_low: float  # probability where the body (pieces and atoms) starts
+    p_high: float  # ... and where it ends
+
+    @property
+    def x_start(self) -> float:
+        return float(self.xa[0])
+
+    @property
+    def x_end(self) -> float:
+        return float(self.xa[-1] + self.h[-1])
+
+    def nonlinear(self) -> np.ndarray:
+        return (self.c[2] != 0) | (self.c[3] != 0)
+
+
+def pchip_slopes(x: np.ndarray, y: np.ndarray) -> np.ndarray:
+    """Monotone cubic Hermite slopes at the points ``(x, y)``, ``x`` increasing.
+
+    Interior slopes are the weighted harmonic mean of the neighbouring secants
+    (Fritsch & Butland 1984), set to zero where the secants change sign or one
+    is zero; end slopes use the one-sided three-point formula with the
+    shape-preserving limits. This is the Fritsch–Carlson (1980) monotone
+    construction as implemented by ``scipy.interpolate.PchipInterpolator``,
+    so both agree to rounding.
+    """
+    h = np.diff(x)
+    m = np.diff(y) / h
+    n = x.size
+    if n == 2:
+        return np.array([m[0], m[0]])
+    d = np.zeros(n)
+    w1 = 2 * h[1:] + h[:-1]
+    w2 = h[1:] + 2 * h[:-1]
+    zero = (np.sign(m[1:]) != np.sign(m[:-1])) | (m[1:] == 0) | (m[:-1] == 0)
+    with np.errstate(divide="ignore", invalid="ignore"):
+        whmean = (w1 / m[:-1] + w2 / m[1:]) / (w1 + w2)
+        d[1:-1] = np.where(zero, 0.0, 1.0 / whmean)
+    d[0] = _pchip_end_slope(h[0], h[1], m[0], m[1])
+    d[-1] = _pchip_end_slope(h[-1], h[-2], m[-1], m[-2])
+    return d
+
+
+def _pchip_end_slope(h0: float, h1: float, m0: float, m1: float) -> float:
+    d = ((2 * h0 + h1) * m0 - h0 * m1) / (h0 + h1)
+    if np.sign(d) != np.sign(m0):
+        return 0.0
+    if np.sign(m0) != np.sign(m1) and abs(d) > 3 * abs(m0):
+        return 3 * m0
+    return float(d)
+
+
+def knot_slopes(x: np.ndarray, p: np.ndarray, interpolation: str) -> np.ndarray:
+    """Density at each knot from inside its run (runs are split by jumps)."""
+    n = x.size
+    d = np.zeros(n)
+    breaks = np.flatnonzero(np.diff(x) == 0)  # knot i and i+1 share x
+    starts = np.r_[0, breaks + 1]
+    stops = np.r_[breaks + 1, n]
+    for a, b in zip(starts, stops, strict=True):
+        if b - a < 2:
+            continue
+        xs, ps = x[a:b], p[a:b]
+        if interpolation == "pchip":
+            d[a:b] = pchip_slopes(xs, ps)
+        else:
+            sec = np.diff(ps) / np.diff(xs)
+            d[a:b - 1] = sec
+            d[b - 1] = sec[-1]
+    return d
+
+
+def _outer_density(x: np.ndarray, p: np.ndarray, d: np.ndarray, side: str) -> float:
+    """Density at the outer knot for deriving an exponential scale.
+
+    The density at the outer knot from inside; if that is zero, the average
+    density of the outer continuous segment; if that is zero too, the average
+    density over the knots' range.
+    """
+    idx = range(x.size - 1) if side == "lower" else range(x.size - 1, 0, -1)
+    for i in idx:
+        j = i + 1 if side == "lower" else i - 1
+        if x[i] != x[j]:
+            if d[i] > 0:
+                return float(d[i])
+            seg = abs(p[j] - p[i]) / abs(x[j] - x[i])
+            if seg > 0:
+                return float(seg)
+            break
+    return float((p[-1] - p[0]) / (x[-1] - x[0]))
+
+
+def build_pieces(
+    x: np.ndarray, p: np.ndarray, interpolation: str, lower: Tail, upper: Tail
+) -> Pieces:
+    """Build the piece table of a valid sketch (knots already checked)."""
+    n = x.size
+    d = knot_slopes(x, p, interpolation)
+    xa, hh, cs, atom_x, atom_m = [], [], [], [], []
+    lower_exp = upper_exp = None
+
+    p0, pn = float(p[0]), float(p[-1])
+    if p0 > 0:
+        if isinstance(lower, BoundedTail):
+            if not lower.limit < x[0]:
+                raise KnotError(
+                    f"A bounded lower tail needs its limit below the first knot; got limit="
+                    f"{lower.limit!r} and x[0]={x[0]!r}. Lower the limit or move the knot."
+                )
+            xa.append(lower.limit)
+            hh.append(x[0] - lower.limit)
+            cs.append((0.0, p0, 0.0, 0.0) if lower.density == "uniform" else (0.0, 0.0, p0, 0.0))
+        else:
+            lower_exp = ExpTail(float(x[0]), p0, _exp_scale(lower, x, p, d, "lower", p0))
+    for i in range(n - 1):
+        if x[i] == x[i + 1]:
+            atom_x.append(x[i])
+            atom_m.append(p[i + 1] - p[i])
+            continue
+        h = x[i + 1] - x[i]
+        delta = p[i + 1] - p[i]
+        if interpolation == "linear":
+            cs.append((p[i], delta, 0.0, 0.0))
+        else:
+            a, b = h * d[i], h * d[i + 1]
+            cs.append((p[i], a, 3 * delta - 2 * a - b, -2 * delta + a + b))
+        xa.append(x[i])
+        hh.append(h)
+    if pn < 1:
+        mass = 1.0 - pn
+        if isinstance(upper, BoundedTail):
+            if not upper.limit > x[-1]:
+                raise KnotError(
+                    f"A bounded upper tail needs its limit above the last knot; got limit="
+                    f"{upper.limit!r} and x[-1]={x[-1]!r}. Raise the limit or move the knot."
+                )
+            xa.append(x[-1])
+            hh.append(upper.limit - x[-1])
+            if upper.density == "uniform":
+                cs.append((pn, mass, 0.0, 0.0))
+            else:
+                cs.append((pn, 2 * mass, -mass, 0.0))
+        else:
+            upper_exp = ExpTail(float(x[-1]), mass, _exp_scale(upper, x, p, d, "upper", mass))
+    c = np.array(cs, dtype=float).T.copy()
+    pl = c[0].copy()
+    pr = c.sum(axis=0)
+    # the polynomial pieces must meet the knots exactly at their right ends
+    pr = _snap_right_ends(pr, p, x, np.asarray(xa), np.asarray(hh), pn, upper_exp is None)
+    pieces = Pieces(
+        xa=_ro(np.asarray(xa, dtype=float)),
+        h=_ro(np.asarray(hh, dtype=float)),
+        c=_ro(c),
+        pl=_ro(pl),
+        pr=_ro(pr),
+        atom_x=_ro(np.asarray(atom_x, dtype=float)),
+        atom_mass=_ro(np.asarray(atom_m, dtype=float)),
+        lower=lower_exp,
+        upper=upper_exp,
+        p_low=p0 if lower_exp else 0.0,
+        p_high=pn if upper_exp else 1.0,
+    )
+    return pieces
+
+
+def _snap_right_ends(pr, p, x, xa, hh, pn, to_one) -> np.ndarray:
+    """Replace rounded right-end values by the exact knot probabilities."""
+    ends = xa + hh
+    out = pr.copy()
+    idx = np.searchsorted(x, ends, side="left")  # knot at the right end (first of a jump)
+    inside = idx < x.size
+    out[inside] = p[idx[inside]]
+    # a bounded upper tail ends at probability 1
+    if to_one and ends.size and ends[-1] > x[-1]:
+        out[-1] = 1.0
+    return out
+
+
+def _exp_scale(tail: ExponentialTail, x, p, d, side: str, mass: float) -> float:
+    if tail.scale is not None:
+        return float(tail.scale)
+    f = _outer_density(x, p, d, side)
+    if not f > 0:
+        raise KnotError(
+            f"Cannot derive the {side} exponential tail's scale: the density at the outer "
+            f"knots is zero (all knots have p={p[0]!r}). State a scale, e.g. "
+            f"{side}_tail=ExponentialTail(scale=...), or a BoundedTail."
+        )
+    scale = mass / f
+    if not math.isfinite(scale):
+        raise KnotError(
+            f"The derived {side} exponential scale is not finite (mass {mass!r}, density "
+            f"{f!r}). State a scale with ExponentialTail(scale=...)."
+        )
+    return scale
+
+
+def _ro(a: np.ndarray) -> np.ndarray:
+    a.setflags(write=False)
+    return a
+
+
+# ---------------------------------------------------------------- evaluation
+
+
+def poly(c: np.ndarray, t: np.ndarray) -> np.ndarray:
+    """F on pieces: ``c`` has shape (4, k) gathered per point."""
+    return c[0] + t * (c[1] + t * (c[2] + t * c[3]))
+
+
+def dpoly(c: np.ndarray, t: np.ndarray) -> np.ndarray:
+    return c[1] + t * (2 * c[2] + t * 3 * c[3])
+
+
+def cdf(pc: Pieces, v: np.ndarray) -> np.ndarray:
+    out = np.empty(v.shape)
+    j = np.searchsorted(pc.xa, v, side="right") - 1
+    below = j < 0
+    above = v >= pc.x_end
+    body = ~(below | above)
+    jb = j[body]
+    t = (v[body] - pc.xa[jb]) / pc.h[jb]
+    out[body] = np.minimum(poly(pc.c[:, jb], t), pc.pr[jb])
+    out[below] = 0.0
+    out[above] = pc.p_high
+    if pc.lower is not None:
+        lo = v < pc.lower.edge
+        out[lo] = pc.lower.mass * np.exp((v[lo] - pc.lower.edge) / pc.lower.scale)
+    if pc.upper is not None:
+        hi = v >= pc.upper.edge
+        out[hi] = pc.p_high - pc.upper.mass * np.expm1(-(v[hi] - pc.upper.edge) / pc.upper.scale)
+    return out
+
+
+def pdf(pc: Pieces, v: np.ndarray) -> np.ndarray:
+    out = np.zeros(v.shape)
+    j = np.searchsorted(pc.xa, v, side="right") - 1
+    body = (j >= 0) & (v < pc.x_end)
+    jb = j[body]
+    t = (v[body] - pc.xa[jb]) / pc.h[jb]
+    out[body] = np.maximum(dpoly(pc.c[:, jb], t), 0.0) / pc.h[jb]
+    if pc.lower is not None:
+        lo = v < pc.lower.edge
+        out[lo] = pc.lower.mass / pc.lower.scale * np.exp((v[lo] - pc.lower.edge) / pc.lower.scale)
+    if pc.upper is not None:
+        hi = v >= pc.upper.edge
+        out[hi] = (
+            pc.upper.mass / pc.upper.scale * np.exp(-(v[hi] - pc.upper.edge) / pc.upper.scale)
+        )
+    return out
+
+
+def invert_pieces(pc: Pieces, j: np.ndarray, u: np.ndarray) -> np.ndarray:
+    """Solve ``F_j(t) = u`` on polynomial pieces ``j``; returns ``x``.
+
+    Linear pieces are inverted in closed form; cubic pieces by safeguarded
+    Newton iteration with bisection (converges to rounding).
+    """
+    c = pc.c[:, j]
+    t = np.empty(u.shape)
+    lin = (c[2] == 0) & (c[3] == 0)
+    t[lin] = (u[lin] - c[0, lin]) / c[1, lin]
+    cub = ~lin
+    if cub.any():
+        t[cub] = _solve_monotone_cubic(c[:, cub], u[cub])
+    t = np.clip(t, 0.0, 1.0)
+    return pc.xa[j] + pc.h[j] * t
+
+
+def _solve_monotone_cubic(c: np.ndarray, u: np.ndarray) -> np.ndarray:
+    lo = np.zeros(u.shape)
+    hi = np.ones(u.shape)
+    span = c[1] + c[2] + c[3]
+    t = np.clip((u - c[0]) / np.where(span > 0, span, 1.0), 0.0, 1.0)
+    active = np.ones(u.shape, dtype=bool)
+    for _ in range(200):
+        idx = np.flatnonzero(active)
+        if idx.size == 0:
+            break
+        ci = c[:, idx]
+        ti = t[idx]
+        f = poly(ci, ti) - u[idx]
+        pos = f > 0
+        hi[idx[pos]] = ti[pos]
+        lo[idx[~pos]] = ti[~pos]
+        df = dpoly(ci, ti)
+        with np.errstate(divide="ignore", invalid="ignore"):
+            tn = ti - f / df
+        bad = ~np.isfinite(tn) | (tn < lo[idx]) | (tn > hi[idx])
+        tn[bad] = 0.5 * (lo[idx[bad]] + hi[idx[bad]])
+        exact = f == 0
+        tn[exact] = ti[exact]
+        done = exact | (np.abs(tn - ti) <= 4e-16) | (hi[idx] - lo[idx] <= 4e-16)
+        t[idx] = tn
+        active[idx[done]] = False
+    return t
+
+
+def ppf(pc: Pieces, u: np.ndarray) -> np.ndarray:
+    """Generalized inverse: the smallest x with F(x) ≥ u, for u in [0, 1]."""
+    out = np.empty(u.shape)
+    lo_end, hi_end = pc.p_low, pc.p_high
+    body = (u > lo_end) & (u <= hi_end)
+    ub = u[body]
+    j = np.searchsorted(pc.pr, ub, side="left")
+    res = np.empty(ub.shape)
+    past = j >= pc.pr.size  # an atom at the top end
+    res[past] = pc.x_end
+    jj = j[~past]
+    uu = ub[~past]
+    at_left = uu <= pc.pl[jj]  # an atom, or the left end of a piece
+    r = np.empty(uu.shape)
+    r[at_left] = pc.xa[jj[at_left]]
+    inv = ~at_left
+    r[inv] = invert_pieces(pc, jj[inv], uu[inv])
+    res[~past] = r
+    out[body] = res
+    low, high = support(pc)
+    if pc.lower is not None:
+        lt = (u <= lo_end) & (u > 0)
+        out[lt] = pc.lower.edge + pc.lower.scale * np.log(u[lt] / pc.lower.mass)
+    else:
+        out[u <= lo_end] = low
+    if pc.upper is not None:
+        ut = (u > hi_end) & (u < 1)
+        out[ut] = pc.upper.edge - pc.upper.scale * np.log((1.0 - u[ut]) / pc.upper.mass)
+    out[u == 0] = low
+    out[u == 1] = high
+    return out
+
+
+def support(pc: Pieces) -> tuple[float, float]:
+    if pc.lower is not None:
+        low = -math.inf
+    else:
+        j = int(np.searchsorted(pc.pr, 0.0, side="right"))
+        low = float(pc.xa[j]) if j < pc.pr.size else pc.x_end
+    if pc.upper is not None:
+        high = math.inf
+    else:
+        j = int(np.searchsorted(pc.pr, 1.0, side="left"))
+        if j >= pc.pr.size:
+            high = pc.x_end
+        elif pc.pl[j] >= 1.0:
+            high = float(pc.xa[j])
+        else:
+            high = float(pc.xa[j] + pc.h[j])
+    return low, high
+
+
+# ---------------------------------------------------------------- moments
+
+
+def central_moment(pc: Pieces, k: int, about: float) -> float:
+    """Exact ``E[(X - about)^k]`` (closed form per piece).
+
+    Polynomial pieces: ``∫ (xa + h t - about)^k F'(t) dt`` is a polynomial of
+    degree ``k + 2`` in ``t``, integrated exactly by Gauss–Legendre
+    quadrature with enough nodes; atoms contribute ``m (x - about)^k``;
+    exponential tails ``X = edge ± scale·E`` with ``E[E^j] = j!``.
+    """
+    nodes, weights = np.polynomial.legendre.leggauss(k // 2 + 3)
+    t = 0.5 * (nodes + 1.0)
+    w = 0.5 * weights
+    base = pc.xa - about
+    vals = (base[:, None] + pc.h[:, None] * t[None, :]) ** k
+    dens = dpoly(pc.c[:, :, None], t[None, :])
+    total = float(np.sum(vals * dens * w[None, :]))
+    if pc.atom_x.size:
+        total += float(np.sum(pc.atom_mass * (pc.atom_x - about) ** k))
+    for tail, sign in ((pc.lower, -1.0), (pc.upper, 1.0)):
+        if tail is None:
+            continue
+        a = tail.edge - about
+        s = sign * tail.scale
+        total += tail.mass * sum(
+            math.comb(k, i) * a ** (k - i) * s**i * math.factorial(i) for i in range(k + 1)
+        )
+    return total

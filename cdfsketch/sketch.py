@@ -1,0 +1,583 @@
+"""The CDF value: :class:`Sketch`, an immutable CDF drawn through knots.
+
+Only numpy is imported at module level. The constructors that build a sketch
+from judgements or data (``from_quantiles``, ``from_three_points``,
+``from_distribution``, ``from_data``) delegate to :mod:`cdfsketch.elicit`,
+imported when first called.
+"""
+
+from __future__ import annotations
+
+import math
+from collections.abc import Mapping
+from typing import TYPE_CHECKING, Any, Literal, NamedTuple
+
+import numpy as np
+
+from . import _pieces
+from ._pieces import INTERPOLATIONS
+from .knots import KnotError, check_knots, clamp_knot
+from .tails import BoundedTail, Tail, as_tail
+
+if TYPE_CHECKING:
+    from .sampler import Sampler
+    from .scipy_adapter import FrozenSketch
+
+__all__ = ["Atom", "Sketch"]
+
+ArrayLike = Any
+
+
+class Atom(NamedTuple):
+    """A point mass: ``mass`` of probability at ``x``."""
+
+    x: float
+    mass: float
+
+
+def _as_values(values: ArrayLike, name: str) -> tuple[np.ndarray, bool]:
+    """Return ``values`` as a float array and whether the input was a scalar."""
+    try:
+        arr = np.asarray(values, dtype=float)
+    except (TypeError, ValueError):
+        raise TypeError(
+            f"{name} must be numbers; got {values!r}. Pass a float or an array of floats."
+        ) from None
+    if np.isnan(arr).any():
+        i = int(np.flatnonzero(np.isnan(arr.ravel()))[0])
+        raise ValueError(
+            f"{name} must not contain NaN; got NaN at flat index {i}. Drop or replace the "
+            "missing values first."
+        )
+    return arr, arr.ndim == 0
+
+
+def _as_probabilities(u: ArrayLike, name: str = "u") -> tuple[np.ndarray, bool]:
+    arr, scalar = _as_values(u, name)
+    bad = np.flatnonzero(((arr < 0) | (arr > 1)).ravel())
+    if bad.size:
+        i = int(bad[0])
+        raise ValueError(
+            f"{name} must be probabilities in [0, 1]; got {arr.ravel()[i]!r} at flat index {i}. "
+            "Rescale or clip them."
+        )
+    return arr, scalar
+
+
+def _out(arr: np.ndarray, scalar: bool) -> Any:
+    return float(arr) if scalar else arr
+
+
+class Sketch:
+    """An immutable CDF drawn through knots.
+
+    Parameters
+    ----------
+    x, p : array_like
+        Knots: ``F(x[i]) = p[i]``. ``x`` non-decreasing (two knots sharing an
+        ``x`` make a jump, a point mass of ``p[i+1] - p[i]``), ``p``
+        non-decreasing in ``[0, 1]``; see :func:`cdfsketch.check_knots`.
+    interpolation : {"linear", "pchip"}
+        ``"linear"``: F linear between knots (a piecewise-uniform density, the
+        maximum-entropy choice between stated quantiles). ``"pchip"``: monotone
+        cubic through the knots (Fritsch–Carlson), a smooth density.
+    lower_tail, upper_tail : BoundedTail or ExponentialTail, optional
+        Where the mass beyond the outer knots goes when ``p[0] > 0`` or
+        ``p[-1] < 1``. Default: ``ExponentialTail()`` (scale derived so the tail
+        continues the density at the outer knot). Kept even when the tail holds
+        no mass.
+    name, units : str
+        What the quantity is and its units; they travel in the spec.
+    provenance : mapping, optional
+        Who made the sketch and why (author, rationale, …); see
+        :mod:`cdfsketch.spec`.
+
+    Examples
+    --------
+    >>> s = Sketch([0, 10, 30], [0, 0.5, 1])
+    >>> s.cdf(10), s.ppf(0.75), round(s.mean(), 6)
+    (0.5, 20.0, 12.5)
+    >>> s.sample(3, rng=42).round(3)
+    array([18.689,  8.778, 22.877])
+    """
+
+    __slots__ = (
+        "_interpolation",
+        "_tails",
+        "_name",
+        "_p",
+        "_pieces",
+        "_provenance",
+        "_sampler",
+        "_tails_given",
+        "_units",
+        "_x",
+    )
+
+    def __init__(
+        self,
+        x: ArrayLike,
+        p: ArrayLike,
+        *,
+        interpolation: Literal["linear", "pchip"] = "linear",
+        lower_tail: Tail | None = None,
+        upper_tail: Tail | None = None,
+        name: str = "",
+        units: str = "",
+        provenance: Mapping[str, Any] | None = None,
+    ) -> None:
+        xa, pa = check_knots(x, p)
+        if interpolation not in INTERPOLATIONS:
+            raise ValueError(
+                f"interpolation must be one of {INTERPOLATIONS}; got {interpolation!r}. "
+                "Use 'linear' for a piecewise-uniform density or 'pchip' for a smooth one."
+            )
+        for label, text in (("name", name), ("units", units)):
+            if not isinstance(text, str):
+                raise TypeError(f"{label} must be a str; got {type(text).__name__} {text!r}.")
+        if provenance is not None and not isinstance(provenance, Mapping):
+            raise TypeError(
+                f"provenance must be a mapping (dict); got {type(provenance).__name__}."
+            )
+        lower = as_tail(lower_tail, "lower")
+        upper = as_tail(upper_tail, "upper")
+        xa.setflags(write=False)
+        pa.setflags(write=False)
+        pieces = _pieces.build_pieces(xa, pa, interpolation, lower, upper)
+        set_ = object.__setattr__
+        set_(self, "_x", xa)
+        set_(self, "_p", pa)
+        set_(self, "_interpolation", interpolation)
+        set_(self, "_tails", (lower, upper))
+        set_(self, "_tails_given", (lower_tail is not None, upper_tail is not None))
+        set_(self, "_name", name)
+        set_(self, "_units", units)
+        set_(self, "_provenance", dict(provenance or {}))
+        set_(self, "_pieces", pieces)
+        set_(self, "_sampler", None)
+
+    def __setattr__(self, key: str, value: object) -> None:
+        raise AttributeError(
+            "Sketch is immutable; use replace(), move_knot(), with_knot() or without_knot() "
+            "to get a new one."
+        )
+
+    # ------------------------------------------------------------ attributes
+    @property
+    def x(self) -> np.ndarray:
+        """Knot positions (read-only)."""
+        return self._x
+
+    @property
+    def p(self) -> np.ndarray:
+        """Knot probabilities (read-only)."""
+        return self._p
+
+    @property
+    def interpolation(self) -> str:
+        """``"linear"`` or ``"pchip"``."""
+        return self._interpolation
+
+    @property
+    def lower_tail(self) -> Tail:
+        """Tail setting below the first knot."""
+        return self._tails[0]
+
+    @property
+    def upper_tail(self) -> Tail:
+        """Tail setting above the last knot."""
+        return self._tails[1]
+
+    @property
+    def tails_given(self) -> tuple[bool, bool]:
+        """Whether the lower and upper tails were stated (not left at the default)."""
+        return self._tails_given
+
+    @property
+    def tail_mass(self) -> tuple[float, float]:
+        """Mass beyond the first and the last knot: ``(p[0], 1 - p[-1])``."""
+        return float(self._p[0]), float(1.0 - self._p[-1])
+
+    @property
+    def tail_scales(self) -> tuple[float | None, float | None]:
+        """Resolved exponential scales (``None`` where no exponential tail holds mass)."""
+        pc = self._pieces
+        return (pc.lower.scale if pc.lower else None, pc.upper.scale if pc.upper else None)
+
+    @property
+    def name(self) -> str:
+        """Name of the quantity."""
+        return self._name
+
+    @property
+    def units(self) -> str:
+        """Units of the quantity."""
+        return self._units
+
+    @property
+    def provenance(self) -> dict[str, Any]:
+        """A copy of the provenance record."""
+        return dict(self._provenance)
+
+    @property
+    def support(self) -> tuple[float, float]:
+        """``(low, high)``: where the mass lies; infinite with exponential tails."""
+        return _pieces.support(self._pieces)
+
+    @property
+    def atoms(self) -> tuple[Atom, ...]:
+        """Point masses, one :class:`Atom` per pair of knots sharing an ``x``."""
+        pc = self._pieces
+        return tuple(
+            Atom(float(a), float(m)) for a, m in zip(pc.atom_x, pc.atom_mass, strict=True)
+        )
+
+    def __len__(self) -> int:
+        return int(self._x.size)
+
+    def __repr__(self) -> str:
+        label = f"{self._name!r}, " if self._name else ""
+        return (
+            f"Sketch({label}{self._x.size} knots, {self._interpolation}, "
+            f"support={self.support}, tail mass={self.tail_mass})"
+        )
+
+    def _key(self) -> tuple:
+        return (
+            self._x.tobytes(),
+            self._p.tobytes(),
+            self._interpolation,
+            self._tails,
+            self._name,
+            self._units,
+        )
+
+    def __eq__(self, other: object) -> bool:
+        if not isinstance(other, Sketch):
+            return NotImplemented
+        return self._key() == other._key() and self._provenance == other._provenance
+
+    def __hash__(self) -> int:
+        return hash(self._key())
+
+    # ------------------------------------------------------------ evaluation
+    def cdf(self, x: ArrayLike) -> Any:
+        """``P(X ≤ x)``, right-continuous at atoms.
+
+        Examples
+        --------
+        >>> Sketch([0, 0, 1], [0, 0.25, 1]).cdf([-1, 0, 0.5])
+        array([0.   , 0.25 , 0.625])
+        """
+        v, scalar = _as_values(x, "x")
+        return _out(_pieces.cdf(self._pieces, v.ravel()).reshape(v.shape), scalar)
+
+    def sf(self, x: ArrayLike) -> Any:
+        """``P(X > x) = 1 - cdf(x)``."""
+        out = 1.0 - np.asarray(self.cdf(x))
+        return _out(out, np.ndim(out) == 0)
+
+    def pdf(self, x: ArrayLike) -> Any:
+        """Density of the continuous part; atoms are reported by :attr:`atoms`.
+
+        Examples
+        --------
+        >>> Sketch([0, 10, 30], [0, 0.5, 1]).pdf([5, 20])
+        array([0.05 , 0.025])
+        """
+        v, scalar = _as_values(x, "x")
+        return _out(_pieces.pdf(self._pieces, v.ravel()).reshape(v.shape), scalar)
+
+    def ppf(self, u: ArrayLike) -> Any:
+        """Generalized inverse: the smallest ``x`` with ``cdf(x) ≥ u``.
+
+        Exact (closed form for linear pieces and tails, Newton–bisection to
+        rounding for cubic pieces). ``ppf(0)`` and ``ppf(1)`` are the support's
+        ends. For fast evaluation of many points use :meth:`sampler`.
+
+        Examples
+        --------
+        >>> Sketch([0, 0, 1], [0, 0.25, 1]).ppf([0.1, 0.25, 0.625])
+        array([0. , 0. , 0.5])
+        """
+        v, scalar = _as_probabilities(u)
+        return _out(_pieces.ppf(self._pieces, v.ravel()).reshape(v.shape), scalar)
+
+    def quantile(self, q: ArrayLike) -> Any:
+        """Quantiles at probabilities ``q`` (the same as :meth:`ppf`)."""
+        return self.ppf(q)
+
+    def median(self) -> float:
+        """The 50 % quantile."""
+        return float(self.ppf(0.5))
+
+    def isf(self, q: ArrayLike) -> Any:
+        """Inverse survival function: ``ppf(1 - q)``."""
+        v, scalar = _as_probabilities(q, "q")
+        return self.ppf(float(1.0 - v) if scalar else 1.0 - v)
+
+    def prob_between(self, a: float, b: float) -> float:
+        """``P(a < X ≤ b)``.
+
+        Examples
+        --------
+        >>> Sketch([0, 10], [0, 1]).prob_between(2, 5)
+        0.3
+        """
+        fa, fb = float(self.cdf(a)), float(self.cdf(b))
+        if b < a:
+            raise ValueError(f"prob_between needs a ≤ b; got a={a!r} > b={b!r}. Swap them.")
+        return fb - fa
+
+    def prob_above(self, t: float) -> float:
+        """``P(X > t)``.
+
+        Examples
+        --------
+        >>> Sketch([0, 10], [0, 1]).prob_above(8)
+        0.2
+        """
+        return 1.0 - float(self.cdf(t))
+
+    # ------------------------------------------------------------ moments
+    def moment(self, k: int) -> float:
+        """Raw moment ``E[X^k]``, exact (closed form per piece).
+
+        Examples
+        --------
+        >>> round(Sketch([0, 1], [0, 1]).moment(2), 12)
+        0.333333333333
+        """
+        if not isinstance(k, int | np.integer) or k < 0:
+            raise ValueError(f"moment order must be a non-negative integer; got {k!r}.")
+        return _pieces.central_moment(self._pieces, int(k), 0.0)
+
+    def mean(self) -> float:
+        """Mean, exact.
+
+        Examples
+        --------
+        >>> Sketch([0, 1, 3], [0, 0.5, 1]).mean()
+        1.25
+        """
+        # shift by a representative point first for accuracy far from zero
+        c = float(np.median(self._x))
+        return c + _pieces.central_moment(self._pieces, 1, c)
+
+    def var(self) -> float:
+        """Variance, exact (computed about the mean, not as E[X²] − E[X]²)."""
+        return max(_pieces.central_moment(self._pieces, 2, self.mean()), 0.0)
+
+    def std(self) -> float:
+        """Standard deviation, exact."""
+        return math.sqrt(self.var())
+
+    # ------------------------------------------------------------ sampling
+    def sampler(self) -> Sampler:
+        """The compiled inverse-transform sampler (built once, then cached).
+
+        Examples
+        --------
+        >>> fast = Sketch([0, 10, 30], [0, 0.5, 1]).sampler()
+        >>> float(fast.ppf(0.75))
+        20.0
+        """
+        if self._sampler is None:
+            from .sampler import Sampler
+
+            object.__setattr__(self, "_sampler", Sampler(self))
+        return self._sampler  # type: ignore[return-value]
+
+    def sample(self, size: int | tuple[int, ...] | None = None, *, rng: Any = None) -> Any:
+        """Draw ``size`` values by inverse transform with the compiled sampler.
+
+        Parameters
+        ----------
+        size : int or tuple of ints, optional
+            Output shape; ``None`` gives one float.
+        rng : optional
+            Anything :func:`numpy.random.default_rng` takes (a seed, a
+            ``Generator``, ``None``). Never global state.
+
+        Examples
+        --------
+        >>> s = Sketch([0, 1], [0, 1])
+        >>> bool(np.array_equal(s.sample(5, rng=1), s.sample(5, rng=1)))
+        True
+        """
+        return self.sampler().sample(size, rng=rng)
+
+    # ------------------------------------------------------------ editing
+    def replace(self, **changes: Any) -> Sketch:
+        """A copy with some constructor arguments changed (validated again).
+
+        Examples
+        --------
+        >>> Sketch([0, 1], [0, 1]).replace(interpolation="pchip").interpolation
+        'pchip'
+        """
+        allowed = (
+            "x",
+            "p",
+            "interpolation",
+            "lower_tail",
+            "upper_tail",
+            "name",
+            "units",
+            "provenance",
+        )
+        unknown = sorted(set(changes) - set(allowed))
+        if unknown:
+            raise TypeError(f"replace() got unknown field(s) {unknown}; allowed: {allowed}.")
+        args: dict[str, Any] = {
+            "x": self._x,
+            "p": self._p,
+            "interpolation": self._interpolation,
+            "lower_tail": self._tails[0] if self._tails_given[0] else None,
+            "upper_tail": self._tails[1] if self._tails_given[1] else None,
+            "name": self._name,
+            "units": self._units,
+            "provenance": self._provenance,
+        }
+        args.update(changes)
+        x, p = args.pop("x"), args.pop("p")
+        return Sketch(x, p, **args)
+
+    def _x_limits(self) -> tuple[float, float]:
+        lo = self.lower_tail.limit if isinstance(self.lower_tail, BoundedTail) else -np.inf
+        hi = self.upper_tail.limit if isinstance(self.upper_tail, BoundedTail) else np.inf
+        return lo, hi
+
+    def move_knot(self, i: int, *, x: float | None = None, p: float | None = None) -> Sketch:
+        """Move knot ``i`` towards ``(x, p)``, clamped between its neighbours.
+
+        No other knot moves; ``x`` stays strictly between the neighbours (and
+        inside a bounded tail's limit), ``p`` within ``[p[i-1], p[i+1]]``.
+
+        Examples
+        --------
+        >>> s = Sketch([0, 1, 2], [0, 0.5, 1]).move_knot(1, x=9, p=0.7)
+        >>> bool(s.x[1] < 2), float(s.p[1])
+        (True, 0.7)
+        """
+        lo, hi = self._x_limits()
+        gap_lo = lo + (abs(lo) + 1.0) * 1e-12 if np.isfinite(lo) else lo
+        gap_hi = hi - (abs(hi) + 1.0) * 1e-12 if np.isfinite(hi) else hi
+        nx, np_ = clamp_knot(self._x, self._p, i, new_x=x, new_p=p, x_low=gap_lo, x_high=gap_hi)
+        return self.replace(x=nx, p=np_)
+
+    def with_knot(self, x: float, p: float) -> Sketch:
+        """A new sketch with a knot added at ``(x, p)``.
+
+        ``p`` is clamped between the neighbouring knots' probabilities so the
+        result stays valid; a knot at an existing ``x`` makes a jump (at most
+        two knots may share an ``x``).
+
+        Examples
+        --------
+        >>> Sketch([0, 2], [0, 1]).with_knot(1, 0.9).p.tolist()
+        [0.0, 0.9, 1.0]
+        """
+        xv = float(x)
+        pv = float(p)
+        if not (math.isfinite(xv) and math.isfinite(pv)):
+            raise KnotError(f"A new knot must be finite; got ({x!r}, {p!r}).")
+        lo, hi = self._x_limits()
+        if not lo < xv < hi:
+            raise KnotError(
+                f"A new knot must lie inside the bounded tails' limits ({lo}, {hi}); got x={xv!r}."
+                " Move the limit first."
+            )
+        i = int(np.searchsorted(self._x, xv, side="right"))
+        p_lo = float(self._p[i - 1]) if i > 0 else 0.0
+        p_hi = float(self._p[i]) if i < self._x.size else 1.0
+        pv = min(max(pv, p_lo), p_hi)
+        nx = np.insert(self._x, i, xv)
+        np_ = np.insert(self._p, i, pv)
+        return self.replace(x=nx, p=np_)
+
+    def without_knot(self, i: int) -> Sketch:
+        """A new sketch without knot ``i`` (a sketch keeps at least 2 knots).
+
+        Examples
+        --------
+        >>> Sketch([0, 1, 2], [0, 0.5, 1]).without_knot(1).x.tolist()
+        [0.0, 2.0]
+        """
+        n = self._x.size
+        if not isinstance(i, int | np.integer) or not -n <= int(i) < n:
+            raise KnotError(f"Knot index must be an integer in [{-n}, {n - 1}]; got {i!r}.")
+        if n <= 2:
+            raise KnotError(
+                f"A sketch keeps at least 2 knots; this one has {n}. Add a knot before "
+                "removing this one."
+            )
+        j = int(i) % n
+        return self.replace(x=np.delete(self._x, j), p=np.delete(self._p, j))
+
+    # ------------------------------------------------------------ conversion
+    def to_spec(self, **provenance: Any) -> dict[str, Any]:
+        """The JSON-ready spec (a dict); keyword arguments add to provenance.
+
+        Examples
+        --------
+        >>> Sketch([0, 1], [0, 1]).to_spec()["format"]
+        'cdfsketch-spec'
+        """
+        from .spec import sketch_to_spec
+
+        return sketch_to_spec(self, **provenance)
+
+    def to_json(self, path: Any = None, **provenance: Any) -> str:
+        """The spec as JSON text; written to ``path`` when given.
+
+        Examples
+        --------
+        >>> '"version": 1' in Sketch([0, 1], [0, 1]).to_json()
+        True
+        """
+        from .spec import dump_spec
+
+        return dump_spec(self.to_spec(**provenance), path)
+
+    def to_scipy(self) -> FrozenSketch:
+        """An object with the scipy frozen-distribution protocol.
+
+        Examples
+        --------
+        >>> d = Sketch([0, 10], [0, 1]).to_scipy()
+        >>> d.mean(), d.interval(0.5)
+        (5.0, (2.5, 7.5))
+        """
+        from .scipy_adapter import FrozenSketch
+
+        return FrozenSketch(self)
+
+    # ------------------------------------------------------------ constructors
+    @classmethod
+    def from_quantiles(cls, q: Mapping[float, float], **options: Any) -> Sketch:
+        """Build a sketch from stated quantiles; see :func:`cdfsketch.elicit.from_quantiles`."""
+        from .elicit import from_quantiles
+
+        return from_quantiles(q, **options)
+
+    @classmethod
+    def from_three_points(cls, low: float, mode: float, high: float, **options: Any) -> Sketch:
+        """Three-point estimate; see :func:`cdfsketch.elicit.from_three_points`."""
+        from .elicit import from_three_points
+
+        return from_three_points(low, mode, high, **options)
+
+    @classmethod
+    def from_distribution(cls, dist: Any, **options: Any) -> Sketch:
+        """Knots at quantiles of ``dist``; see :func:`cdfsketch.elicit.from_distribution`."""
+        from .elicit import from_distribution
+
+        return from_distribution(dist, **options)
+
+    @classmethod
+    def from_data(cls, data: ArrayLike, **options: Any) -> Sketch:
+        """Fewest knots inside the data's band; see :func:`cdfsketch.elicit.from_data`."""
+        from .elicit import from_data
+
+        return from_data(data, **options)
