@@ -37,6 +37,7 @@ class ExpTail:
 @dataclass(frozen=True, eq=False)
 class Pieces:
     xa: np.ndarray
+    xb: np.ndarray  # exact right ends (xb[j] == xa[j + 1])
     h: np.ndarray
     c: np.ndarray  # shape (4, m)
     pl: np.ndarray
@@ -54,7 +55,7 @@ class Pieces:
 
     @property
     def x_end(self) -> float:
-        return float(self.xa[-1] + self.h[-1])
+        return float(self.xb[-1])
 
     def nonlinear(self) -> np.ndarray:
         return (self.c[2] != 0) | (self.c[3] != 0)
@@ -96,6 +97,7 @@ def _pchip_end_slope(h0: float, h1: float, m0: float, m1: float) -> float:
     return float(d)
 
 
+@np.errstate(over="ignore", divide="ignore", invalid="ignore")
 def knot_slopes(x: np.ndarray, p: np.ndarray, interpolation: str) -> np.ndarray:
     """Density at each knot from inside its run (runs are split by jumps)."""
     n = x.size
@@ -111,7 +113,7 @@ def knot_slopes(x: np.ndarray, p: np.ndarray, interpolation: str) -> np.ndarray:
             d[a:b] = pchip_slopes(xs, ps)
         else:
             sec = np.diff(ps) / np.diff(xs)
-            d[a:b - 1] = sec
+            d[a : b - 1] = sec
             d[b - 1] = sec[-1]
     return d
 
@@ -151,7 +153,7 @@ def build_pieces(
             if not lower.limit < x[0]:
                 raise KnotError(
                     f"A bounded lower tail needs its limit below the first knot; got limit="
-                    f"{lower.limit!r} and x[0]={x[0]!r}. Lower the limit or move the knot."
+                    f"{lower.limit!r} and x[0]={float(x[0])!r}. Lower the limit or move the knot."
                 )
             xa.append(lower.limit)
             hh.append(x[0] - lower.limit)
@@ -178,7 +180,7 @@ def build_pieces(
             if not upper.limit > x[-1]:
                 raise KnotError(
                     f"A bounded upper tail needs its limit above the last knot; got limit="
-                    f"{upper.limit!r} and x[-1]={x[-1]!r}. Raise the limit or move the knot."
+                    f"{upper.limit!r} and x[-1]={float(x[-1])!r}. Raise the limit or move the knot."
                 )
             xa.append(x[-1])
             hh.append(upper.limit - x[-1])
@@ -193,8 +195,12 @@ def build_pieces(
     pr = c.sum(axis=0)
     # the polynomial pieces must meet the knots exactly at their right ends
     pr = _snap_right_ends(pr, p, x, np.asarray(xa), np.asarray(hh), pn, upper_exp is None)
+    xa_arr = np.asarray(xa, dtype=float)
+    last = upper.limit if pn < 1 and isinstance(upper, BoundedTail) else x[-1]
+    xb_arr = np.r_[xa_arr[1:], last]  # pieces are contiguous
     pieces = Pieces(
-        xa=_ro(np.asarray(xa, dtype=float)),
+        xa=_ro(xa_arr),
+        xb=_ro(xb_arr),
         h=_ro(np.asarray(hh, dtype=float)),
         c=_ro(c),
         pl=_ro(pl),
@@ -213,7 +219,9 @@ def _snap_right_ends(pr, p, x, xa, hh, pn, to_one) -> np.ndarray:
     """Replace rounded right-end values by the exact knot probabilities."""
     ends = xa + hh
     out = pr.copy()
-    idx = np.searchsorted(x, ends, side="left")  # knot at the right end (first of a jump)
+    # the knot at the right end (first of a jump) is the first knot past the piece's
+    # left end; searching for the rounded right end xa + h could land one knot too far
+    idx = np.searchsorted(x, xa, side="right")
     inside = idx < x.size
     out[inside] = p[idx[inside]]
     # a bounded upper tail ends at probability 1
@@ -223,21 +231,18 @@ def _snap_right_ends(pr, p, x, xa, hh, pn, to_one) -> np.ndarray:
 
 
 def _exp_scale(tail: ExponentialTail, x, p, d, side: str, mass: float) -> float:
+    """The tail's scale: stated, or ``mass / f`` with ``f`` the outer density.
+
+    Where every density estimate is zero (all knots at one ``p``) or the ratio
+    is not finite, the knots' x range is used instead, so that any drag gives
+    a valid sketch; :attr:`Sketch.tail_scales` shows the value used.
+    """
     if tail.scale is not None:
         return float(tail.scale)
     f = _outer_density(x, p, d, side)
-    if not f > 0:
-        raise KnotError(
-            f"Cannot derive the {side} exponential tail's scale: the density at the outer "
-            f"knots is zero (all knots have p={p[0]!r}). State a scale, e.g. "
-            f"{side}_tail=ExponentialTail(scale=...), or a BoundedTail."
-        )
-    scale = mass / f
+    scale = mass / f if f > 0 else math.inf
     if not math.isfinite(scale):
-        raise KnotError(
-            f"The derived {side} exponential scale is not finite (mass {mass!r}, density "
-            f"{f!r}). State a scale with ExponentialTail(scale=...)."
-        )
+        scale = float(x[-1] - x[0])
     return scale
 
 
@@ -258,6 +263,7 @@ def dpoly(c: np.ndarray, t: np.ndarray) -> np.ndarray:
     return c[1] + t * (2 * c[2] + t * 3 * c[3])
 
 
+@np.errstate(over="ignore", under="ignore")
 def cdf(pc: Pieces, v: np.ndarray) -> np.ndarray:
     out = np.empty(v.shape)
     j = np.searchsorted(pc.xa, v, side="right") - 1
@@ -278,6 +284,17 @@ def cdf(pc: Pieces, v: np.ndarray) -> np.ndarray:
     return out
 
 
+@np.errstate(over="ignore", under="ignore")
+def sf(pc: Pieces, v: np.ndarray) -> np.ndarray:
+    """``1 - F``, computed directly in the upper exponential tail (no cancellation)."""
+    out = 1.0 - cdf(pc, v)
+    if pc.upper is not None:
+        hi = v >= pc.upper.edge
+        out[hi] = pc.upper.mass * np.exp(-(v[hi] - pc.upper.edge) / pc.upper.scale)
+    return out
+
+
+@np.errstate(over="ignore", under="ignore")
 def pdf(pc: Pieces, v: np.ndarray) -> np.ndarray:
     out = np.zeros(v.shape)
     j = np.searchsorted(pc.xa, v, side="right") - 1
@@ -290,9 +307,7 @@ def pdf(pc: Pieces, v: np.ndarray) -> np.ndarray:
         out[lo] = pc.lower.mass / pc.lower.scale * np.exp((v[lo] - pc.lower.edge) / pc.lower.scale)
     if pc.upper is not None:
         hi = v >= pc.upper.edge
-        out[hi] = (
-            pc.upper.mass / pc.upper.scale * np.exp(-(v[hi] - pc.upper.edge) / pc.upper.scale)
-        )
+        out[hi] = pc.upper.mass / pc.upper.scale * np.exp(-(v[hi] - pc.upper.edge) / pc.upper.scale)
     return out
 
 
@@ -310,7 +325,7 @@ def invert_pieces(pc: Pieces, j: np.ndarray, u: np.ndarray) -> np.ndarray:
     if cub.any():
         t[cub] = _solve_monotone_cubic(c[:, cub], u[cub])
     t = np.clip(t, 0.0, 1.0)
-    return pc.xa[j] + pc.h[j] * t
+    return np.minimum(pc.xa[j] + pc.h[j] * t, pc.xb[j])
 
 
 def _solve_monotone_cubic(c: np.ndarray, u: np.ndarray) -> np.ndarray:
@@ -390,7 +405,7 @@ def support(pc: Pieces) -> tuple[float, float]:
         elif pc.pl[j] >= 1.0:
             high = float(pc.xa[j])
         else:
-            high = float(pc.xa[j] + pc.h[j])
+            high = float(pc.xb[j])
     return low, high
 
 

@@ -50,7 +50,7 @@ def _as_knot_array(values: object, name: str) -> np.ndarray:
     if bad.size:
         i = int(bad[0])
         raise KnotError(
-            f"Knot {name} must be finite; got {name}[{i}]={arr[i]!r} "
+            f"Knot {name} must be finite; got {name}[{i}]={float(arr[i])!r} "
             f"({bad.size} non-finite value(s) in all). Remove or replace them; an unbounded "
             "end is described by a tail, not by an infinite knot."
         )
@@ -98,7 +98,7 @@ def check_knots(x: object, p: object) -> tuple[np.ndarray, np.ndarray]:
     >>> check_knots([0, 1, 2], [0, 0.6, 0.5])
     Traceback (most recent call last):
     ...
-    cdfsketch.knots.KnotError: Knot probabilities must be non-decreasing; got p[2]=0.5 < p[1]=0.6. ...
+    cdfsketch.knots.KnotError: Knot probabilities must be non-decreasing; got p[2]=0.5 < p[1]=0.6...
     """
     xa, pa = _as_pair(x, p)
     xa = xa.copy()
@@ -107,7 +107,7 @@ def check_knots(x: object, p: object) -> tuple[np.ndarray, np.ndarray]:
     if out.size:
         i = int(out[0])
         raise KnotError(
-            f"Knot probabilities must lie in [0, 1]; got p[{i}]={pa[i]!r}. "
+            f"Knot probabilities must lie in [0, 1]; got p[{i}]={float(pa[i])!r}. "
             "Clip them, or repair the knots with cdfsketch.project_knots()."
         )
     dx = np.diff(xa)
@@ -115,8 +115,8 @@ def check_knots(x: object, p: object) -> tuple[np.ndarray, np.ndarray]:
     if down.size:
         i = int(down[0]) + 1
         raise KnotError(
-            f"Knot positions must be non-decreasing; got x[{i}]={xa[i]!r} < "
-            f"x[{i - 1}]={xa[i - 1]!r}. Sort the knots by x, or repair them with "
+            f"Knot positions must be non-decreasing; got x[{i}]={float(xa[i])!r} < "
+            f"x[{i - 1}]={float(xa[i - 1])!r}. Sort the knots by x, or repair them with "
             "cdfsketch.project_knots()."
         )
     dp = np.diff(pa)
@@ -124,8 +124,8 @@ def check_knots(x: object, p: object) -> tuple[np.ndarray, np.ndarray]:
     if dec.size:
         i = int(dec[0]) + 1
         raise KnotError(
-            f"Knot probabilities must be non-decreasing; got p[{i}]={pa[i]!r} < "
-            f"p[{i - 1}]={pa[i - 1]!r}. Sort the knots by x, or repair them with "
+            f"Knot probabilities must be non-decreasing; got p[{i}]={float(pa[i])!r} < "
+            f"p[{i - 1}]={float(pa[i - 1])!r}. Sort the knots by x, or repair them with "
             "cdfsketch.project_knots()."
         )
     tie = dx == 0
@@ -134,18 +134,18 @@ def check_knots(x: object, p: object) -> tuple[np.ndarray, np.ndarray]:
         i = int(triple[0])
         raise KnotError(
             f"At most two knots may share an x (a jump); got x[{i}]=x[{i + 1}]=x[{i + 2}]="
-            f"{xa[i]!r}. Keep only the lowest and highest p at that x."
+            f"{float(xa[i])!r}. Keep only the lowest and highest p at that x."
         )
     empty = np.flatnonzero(tie & (dp == 0))
     if empty.size:
         i = int(empty[0])
         raise KnotError(
             f"Two knots at the same x must make a jump (p must rise); got x[{i}]=x[{i + 1}]="
-            f"{xa[i]!r} with p[{i}]=p[{i + 1}]={pa[i]!r}. Remove one of them."
+            f"{float(xa[i])!r} with p[{i}]=p[{i + 1}]={float(pa[i])!r}. Remove one of them."
         )
     if not xa[-1] > xa[0]:
         raise KnotError(
-            f"Knots must span a range of x; got all knots at x={xa[0]!r}. Spread the knots "
+            f"Knots must span a range of x; got all knots at x={float(xa[0])!r}. Spread the knots "
             "over the range of the quantity (a point mass alone is not a sketch)."
         )
     return xa, pa
@@ -211,7 +211,7 @@ def project_knots(x: object, p: object) -> tuple[np.ndarray, np.ndarray]:
     pa = np.clip(_pool_adjacent_violators(pa[order]), 0.0, 1.0)
     if not xa[-1] > xa[0]:
         raise KnotError(
-            f"Knots must span a range of x; got all knots at x={xa[0]!r}. Spread the knots "
+            f"Knots must span a range of x; got all knots at x={float(xa[0])!r}. Spread the knots "
             "over the range of the quantity."
         )
     # keep the first and last knot of each run of equal x, and drop zero-mass jumps

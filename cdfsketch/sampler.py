@@ -72,8 +72,8 @@ class Sampler:
         "_b",
         "_c",
         "_cells",
-        "_cut",
         "_cubic",
+        "_cut",
         "_d",
         "_guide",
         "_lower",
@@ -106,20 +106,26 @@ class Sampler:
 
     def _build_guide(self) -> None:
         k = self._ur.size
-        cells = 1 << max(8, int(math.ceil(math.log2(8 * k))))
+        cells = 1 << max(8, math.ceil(math.log2(4 * k)))
         cells = min(cells, 1 << 16)
         edges = np.arange(cells + 1) / cells
-        guide = np.minimum(np.searchsorted(self._ur, edges, side="left"), k - 1)
-        start = guide[:-1]
-        # breakpoints strictly inside each cell: ur[start], ur[start+1], ... < next edge
-        count = guide[1:] - start
+        # cell j covers [j/M, (j+1)/M); the extra last cell takes u == 1 (ppf only)
+        start = np.minimum(np.searchsorted(self._ur, edges, side="left"), k - 1)
+        count = np.r_[start[1:] - start[:-1], 0]  # breakpoints inside each cell
         cut = self._ur[start].copy()
         cut[start >= k - 1] = np.inf
+        # the few cells with two or more breakpoints point at a sentinel interval
+        # whose coefficients are NaN; those draws are redone by binary search
+        slow = count > 1
+        start[slow] = k
+        cut[slow] = np.inf
         self._cells = cells
         self._guide = start.astype(np.intp)
         self._cut = cut
-        slow = count > 1
-        self._slow = slow if slow.any() else None
+        self._slow = bool(slow.any())
+        self._ul, self._a, self._b, self._c, self._d = (
+            np.r_[arr, np.nan] for arr in (self._ul, self._a, self._b, self._c, self._d)
+        )
 
     # ------------------------------------------------------------ evaluation
     def _transform(self, u: np.ndarray, out: np.ndarray, work: dict[str, np.ndarray]) -> None:
@@ -131,30 +137,19 @@ class Sampler:
         m = work["m"][:n]
         np.multiply(u, self._cells, out=t)
         np.copyto(j, t, casting="unsafe")
-        np.minimum(j, self._cells - 1, out=j)
-        np.take(self._guide, j, out=k)
-        np.take(self._cut, j, out=t)
+        # indices are in range by construction: mode="clip" skips numpy's bounds check
+        np.take(self._guide, j, out=k, mode="clip")
+        np.take(self._cut, j, out=t, mode="clip")
         np.greater(u, t, out=m)
         k += m
-        if self._slow is not None:
-            np.take(self._slow, j, out=m)
+        self._evaluate(u, k, out, work)
+        if self._slow:
+            np.isnan(out, out=m)
             if m.any():
                 idx = np.flatnonzero(m)
-                kk = np.searchsorted(self._ur, u[idx], side="left")
-                k[idx] = np.minimum(kk, self._ur.size - 1)
-        # s = u - ul; x = a + s (b + s (c + s d))
-        np.take(self._ul, k, out=t)
-        np.subtract(u, t, out=t)
-        if self._cubic:
-            np.take(self._d, k, out=out)
-            out *= t
-            out += np.take(self._c, k)
-            out *= t
-        else:
-            out.fill(0.0)
-        out += np.take(self._b, k)
-        out *= t
-        out += np.take(self._a, k)
+                kk = np.minimum(np.searchsorted(self._ur, u[idx], side="left"), self._ur.size - 1)
+                k[idx] = kk
+                self._evaluate(u, k, out, work, idx)
         if self._lower is not None:
             np.less(u, self._p_low, out=m)
             if m.any():
@@ -167,9 +162,41 @@ class Sampler:
                 tail = self._upper
                 out[m] = tail.edge - tail.scale * np.log((1.0 - u[m]) / tail.mass)
 
+    def _evaluate(
+        self,
+        u: np.ndarray,
+        k: np.ndarray,
+        out: np.ndarray,
+        work: dict[str, np.ndarray],
+        idx: np.ndarray | None = None,
+    ) -> None:
+        """``out = a + s (b + s (c + s d))`` with ``s = u - ul`` (on ``idx`` only if given)."""
+        if idx is not None:
+            uu, kk = u[idx], k[idx]
+            s = uu - self._ul[kk]
+            x = self._a[kk] + s * (self._b[kk] + s * (self._c[kk] + s * self._d[kk]))
+            out[idx] = x
+            return
+        n = u.size
+        t = work["t"][:n]
+        g = work["g"][:n]
+        np.take(self._ul, k, out=t, mode="clip")
+        np.subtract(u, t, out=t)
+        if self._cubic:
+            np.take(self._d, k, out=out, mode="clip")
+            out *= t
+            out += np.take(self._c, k, out=g, mode="clip")
+            out *= t
+            out += np.take(self._b, k, out=g, mode="clip")
+        else:
+            np.take(self._b, k, out=out, mode="clip")
+        out *= t
+        out += np.take(self._a, k, out=g, mode="clip")
+
     def _work(self, n: int) -> dict[str, np.ndarray]:
         return {
             "t": np.empty(n),
+            "g": np.empty(n),
             "j": np.empty(n, dtype=np.intp),
             "k": np.empty(n, dtype=np.intp),
             "m": np.empty(n, dtype=bool),
@@ -193,9 +220,10 @@ class Sampler:
         flat = np.ascontiguousarray(arr, dtype=float).ravel()
         out = np.empty(flat.size)
         work = self._work(min(flat.size, DEFAULT_CHUNK))
-        for lo in range(0, flat.size, DEFAULT_CHUNK):
-            hi = min(lo + DEFAULT_CHUNK, flat.size)
-            self._transform(flat[lo:hi], out[lo:hi], work)
+        with np.errstate(divide="ignore", invalid="ignore"):  # u == 0 or 1, set below
+            for lo in range(0, flat.size, DEFAULT_CHUNK):
+                hi = min(lo + DEFAULT_CHUNK, flat.size)
+                self._transform(flat[lo:hi], out[lo:hi], work)
         out[flat == 0.0] = self._support[0]
         out[flat == 1.0] = self._support[1]
         out = out.reshape(arr.shape)
@@ -285,13 +313,35 @@ def _body_intervals(
         if cubic[j]:
             rows.append(_cubic_intervals(pc, j, lo, hi, tol))
         else:
-            b = pc.h[j] / pc.c[1, j]
+            with np.errstate(over="ignore"):
+                b = pc.h[j] / pc.c[1, j]
+            if not np.isfinite(b):  # a piece holding ~1e-300 of mass: its left end
+                b = 0.0
             rows.append(tuple(np.array([v]) for v in (lo, hi, pc.xa[j], b, 0.0, 0.0)))
     const(float(pc.pr[-1]), pc.p_high, pc.x_end)
     cols = [np.concatenate([r[i] for r in rows]) for i in range(6)]
     ul, ur = cols[0], cols[1]
     ur[-1] = pc.p_high
+    _keep_below_atoms(*cols)
     return ul, ur, tuple(cols[2:])
+
+
+def _keep_below_atoms(ul, ur, a, b, c, d) -> None:
+    """Shift intervals that end where an atom starts down by a few ulps, in place.
+
+    Rounding in the polynomial could otherwise put ``x(u)`` for ``u`` just
+    below the atom a hair above the atom's ``x``, where ``F`` has already
+    jumped. The shift is at most a few units in the last place.
+    """
+    const = (b == 0) & (c == 0) & (d == 0)
+    before = np.flatnonzero(const[1:] & ~const[:-1])
+    for k in before:
+        w = ur[k] - ul[k]
+        end = a[k] + w * (b[k] + w * (c[k] + w * d[k]))
+        target = a[k + 1]
+        margin = 2 * np.spacing(abs(target))
+        if end > target - margin:
+            a[k] -= end - target + margin
 
 
 def _cubic_intervals(
@@ -313,17 +363,28 @@ def _cubic_intervals(
         u_nodes[:, -1] = todo_r
         jj = np.full(u_nodes.shape, j)
         x_nodes = _pieces.invert_pieces(pc, jj.ravel(), u_nodes.ravel()).reshape(u_nodes.shape)
-        tau_coef = x_nodes @ _FIT_INV.T  # coefficients in tau, per interval
+        # fit x - x(ul): small numbers, so rounding of large x does not pollute the fit
+        x0 = x_nodes[:, :1]
+        tau_coef = (x_nodes - x0) @ _FIT_INV.T  # coefficients in tau, per interval
         u_test = todo_l[:, None] + w[:, None] * _TEST_TAU[None, :]
-        x_test = _eval_tau(tau_coef, _TEST_TAU)
+        rel_test = _eval_tau(tau_coef, _TEST_TAU)
+        x_test = x0 + rel_test
         t = np.clip((x_test - pc.xa[j]) / pc.h[j], 0.0, 1.0)
         err = np.abs(_pieces.poly(pc.c[:, j, None, None], t) - u_test).max(axis=1)
-        path = np.concatenate([x_nodes[:, :1], x_test, x_nodes[:, -1:]], axis=1)
+        # u cannot be resolved finer than the density times the spacing of x there
+        dens = _pieces.dpoly(pc.c[:, j, None, None], t) / pc.h[j]
+        floor = 4 * (dens * np.spacing(np.abs(x_test))).max(axis=1)
+        path = np.concatenate([np.zeros_like(x0), rel_test, x_nodes[:, -1:] - x0], axis=1)
         monotone = np.all(np.diff(path, axis=1) >= 0, axis=1)
-        ok = (err <= tol) & monotone
+        ok = (err <= tol + floor) & monotone
         ok |= w <= 4 * np.spacing(np.maximum(np.abs(todo_r), 1e-300))
-        scale = np.array([np.ones_like(w), 1 / w, 1 / w**2, 1 / w**3])
-        s_coef = tau_coef[ok].T * scale[:, ok]
+        with np.errstate(over="ignore", divide="ignore", invalid="ignore"):
+            scale = np.array([np.ones_like(w), 1 / w, 1 / w**2, 1 / w**3])
+            s_coef = tau_coef[ok].T * scale[:, ok]
+        # intervals too narrow for their coefficients to be represented: constant
+        flat = ~np.all(np.isfinite(s_coef), axis=0)
+        s_coef[:, flat] = 0.0
+        s_coef[0] += x0[ok, 0]
         done.append(np.vstack([todo_l[ok], todo_r[ok], s_coef]))
         mid = 0.5 * (todo_l[~ok] + todo_r[~ok])
         todo_l, todo_r = np.r_[todo_l[~ok], mid], np.r_[mid, todo_r[~ok]]

@@ -57,7 +57,7 @@ class FrozenSketch:
 
     def sf(self, x: Any) -> Any:
         v, bad, scalar = self._points(x)
-        return self._finish(1.0 - np.asarray(self.sketch.cdf(v)), bad, scalar)
+        return self._finish(self.sketch.sf(v), bad, scalar)
 
     def pdf(self, x: Any) -> Any:
         v, bad, scalar = self._points(x)

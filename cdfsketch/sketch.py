@@ -1,9 +1,9 @@
 """The CDF value: :class:`Sketch`, an immutable CDF drawn through knots.
 
 Only numpy is imported at module level. The constructors that build a sketch
-from judgements or data (``from_quantiles``, ``from_three_points``,
-``from_distribution``, ``from_data``) delegate to :mod:`cdfsketch.elicit`,
-imported when first called.
+from judgements (``from_quantiles``, ``from_three_points``,
+``from_distribution``) delegate to :mod:`cdfsketch.elicit`, and ``from_data``
+to :mod:`cdfsketch.autoknots`, imported when first called.
 """
 
 from __future__ import annotations
@@ -58,8 +58,8 @@ def _as_probabilities(u: ArrayLike, name: str = "u") -> tuple[np.ndarray, bool]:
     if bad.size:
         i = int(bad[0])
         raise ValueError(
-            f"{name} must be probabilities in [0, 1]; got {arr.ravel()[i]!r} at flat index {i}. "
-            "Rescale or clip them."
+            f"{name} must be probabilities in [0, 1]; got {float(arr.ravel()[i])!r} at flat "
+            f"index {i}. Rescale or clip them."
         )
     return arr, scalar
 
@@ -103,12 +103,12 @@ class Sketch:
 
     __slots__ = (
         "_interpolation",
-        "_tails",
         "_name",
         "_p",
         "_pieces",
         "_provenance",
         "_sampler",
+        "_tails",
         "_tails_given",
         "_units",
         "_x",
@@ -228,9 +228,7 @@ class Sketch:
     def atoms(self) -> tuple[Atom, ...]:
         """Point masses, one :class:`Atom` per pair of knots sharing an ``x``."""
         pc = self._pieces
-        return tuple(
-            Atom(float(a), float(m)) for a, m in zip(pc.atom_x, pc.atom_mass, strict=True)
-        )
+        return tuple(Atom(float(a), float(m)) for a, m in zip(pc.atom_x, pc.atom_mass, strict=True))
 
     def __len__(self) -> int:
         return int(self._x.size)
@@ -273,9 +271,15 @@ class Sketch:
         return _out(_pieces.cdf(self._pieces, v.ravel()).reshape(v.shape), scalar)
 
     def sf(self, x: ArrayLike) -> Any:
-        """``P(X > x) = 1 - cdf(x)``."""
-        out = 1.0 - np.asarray(self.cdf(x))
-        return _out(out, np.ndim(out) == 0)
+        """``P(X > x) = 1 - cdf(x)``, accurate far into an exponential upper tail.
+
+        Examples
+        --------
+        >>> Sketch([0, 10], [0, 1]).sf(2.5)
+        0.75
+        """
+        v, scalar = _as_values(x, "x")
+        return _out(_pieces.sf(self._pieces, v.ravel()).reshape(v.shape), scalar)
 
     def pdf(self, x: ArrayLike) -> Any:
         """Density of the continuous part; atoms are reported by :attr:`atoms`.
@@ -338,6 +342,18 @@ class Sketch:
         0.2
         """
         return 1.0 - float(self.cdf(t))
+
+    def summary(self, *, probabilities: tuple[float, ...] = (0.05, 0.25, 0.5, 0.75, 0.95)) -> Any:
+        """What an expert needs to check a judgement: see :func:`cdfsketch.summary.summary`.
+
+        Examples
+        --------
+        >>> print(Sketch([0, 10], [0, 1]).summary().mean)
+        5.0
+        """
+        from .summary import summary
+
+        return summary(self, probabilities=probabilities)
 
     # ------------------------------------------------------------ moments
     def moment(self, k: int) -> float:
@@ -489,6 +505,8 @@ class Sketch:
                 " Move the limit first."
             )
         i = int(np.searchsorted(self._x, xv, side="right"))
+        if i > 0 and self._x[i - 1] == xv and pv < self._p[i - 1]:
+            i -= 1  # a jump up to the existing knot at this x
         p_lo = float(self._p[i - 1]) if i > 0 else 0.0
         p_hi = float(self._p[i]) if i < self._x.size else 1.0
         pv = min(max(pv, p_lo), p_hi)
@@ -577,7 +595,7 @@ class Sketch:
 
     @classmethod
     def from_data(cls, data: ArrayLike, **options: Any) -> Sketch:
-        """Fewest knots inside the data's band; see :func:`cdfsketch.elicit.from_data`."""
-        from .elicit import from_data
+        """Fewest knots inside the data's band; see :func:`cdfsketch.autoknots.from_data`."""
+        from .autoknots import from_data
 
         return from_data(data, **options)

@@ -194,7 +194,7 @@ def read_spec(obj: Any) -> dict[str, Any]:
         return dict(obj)
     if isinstance(obj, bytes):
         obj = obj.decode("utf-8")
-    if isinstance(obj, str) and obj.lstrip().startswith("{"):
+    if isinstance(obj, str) and obj.lstrip()[:1] in ("{", "["):
         text = obj
     elif isinstance(obj, str | os.PathLike):
         path = Path(obj)
@@ -210,9 +210,7 @@ def read_spec(obj: Any) -> dict[str, Any]:
             )
         text = path.read_text(encoding="utf-8")
     else:
-        raise SpecError(
-            f"load() takes a path, a JSON string or a dict; got {type(obj).__name__}."
-        )
+        raise SpecError(f"load() takes a path, a JSON string or a dict; got {type(obj).__name__}.")
     if len(text) > MAX_SPEC_BYTES:
         raise SpecError(
             f"The spec text is {len(text):,} characters; at most {MAX_SPEC_BYTES:,} are read."

@@ -1,0 +1,57 @@
+"""Automatic knots on large samples, against ``np.sort`` of the same data.
+
+Target (issue 4): ``from_data`` on 1e6 points in ≤ 2 s (linear, the default).
+
+Run: ``python tests/bench/bench_autoknots.py`` (``--quick`` for a smoke run).
+"""
+
+from __future__ import annotations
+
+import sys
+import time
+
+import numpy as np
+
+from cdfsketch.autoknots import from_data
+
+
+def best_of(fn, repeats: int) -> float:
+    best = np.inf
+    for _ in range(repeats):
+        t0 = time.perf_counter()
+        fn()
+        best = min(best, time.perf_counter() - t0)
+    return best
+
+
+def main(quick: bool = False) -> dict[str, float]:
+    n = 10**4 if quick else 10**6
+    reps = 1 if quick else 3
+    rng = np.random.default_rng(12345)
+    samples = {
+        "normal": rng.normal(size=n),
+        "lognormal": rng.lognormal(size=n),
+        "mixture": np.where(rng.random(n) < 0.6, rng.normal(0, 1, n), rng.normal(5, 0.5, n)),
+    }
+    results: dict[str, float] = {}
+    print(f"n = {n:.0e}")
+    for label, data in samples.items():
+        t_sort = best_of(lambda data=data: np.sort(data), reps)
+        for interp in ("linear", "pchip"):
+            t = best_of(
+                lambda data=data, interp=interp: from_data(data, interpolation=interp), reps
+            )
+            s = from_data(data, interpolation=interp)
+            extra = s.provenance["extra"]
+            results[f"{label}_{interp}_s"] = t
+            target = " (target <= 2 s)" if interp == "linear" else ""
+            print(
+                f"{label:9s} {interp:6s}: {t * 1e3:7.0f} ms = {t / t_sort:5.1f}x np.sort "
+                f"({t_sort * 1e3:.0f} ms){target}; {extra['knots']} knots, "
+                f"max excursion {extra['max_excursion']:.2g}"
+            )
+    return results
+
+
+if __name__ == "__main__":
+    main(quick="--quick" in sys.argv)

@@ -1,0 +1,106 @@
+"""Sampler speed and memory against baselines timed in the same process.
+
+Targets (issue 2): for 1e7 draws from a linear sketch with 10, 100 and 1000
+knots ≥ 0.30× the rate of raw ``rng.random(n)`` and, at 100 knots, ≥ 4× the
+rate of ``np.interp(rng.random(n), p, x)``; for a 20-knot pchip sketch
+≥ 0.20× raw ``rng.random`` and ≥ 1.5× scipy.stats.sampling.NumericalInversePolynomial
+(u_resolution=1e-10) on the same CDF. Peak extra memory O(chunk), not O(n).
+
+Run: ``python tests/bench/bench_sampler.py`` (``--quick`` for a smoke run).
+"""
+
+from __future__ import annotations
+
+import sys
+import time
+import tracemalloc
+
+import numpy as np
+
+from cdfsketch import Sketch
+
+
+def best_of(fn, repeats: int) -> float:
+    best = np.inf
+    for _ in range(repeats):
+        t0 = time.perf_counter()
+        fn()
+        best = min(best, time.perf_counter() - t0)
+    return best
+
+
+def linear_sketch(k: int) -> Sketch:
+    # knots at quantiles of a gamma-like shape, uneven spacing in x and p
+    u = np.linspace(0, 1, k) ** 1.3
+    x = -np.log1p(-np.clip(u, 0, 1 - 1e-9)) * 3 + np.sqrt(np.arange(k))
+    return Sketch(np.sort(x) + np.arange(k) * 1e-3, u)
+
+
+def pchip_sketch(k: int = 20) -> Sketch:
+    u = np.linspace(0.02, 0.98, k)
+    x = np.sqrt(-2 * np.log(np.minimum(u, 1 - u))) * np.sign(u - 0.5) + 10
+    x = np.sort(x) + np.arange(k) * 1e-6
+    return Sketch(x, u, interpolation="pchip")
+
+
+def main(quick: bool = False) -> dict[str, float]:
+    n = 10**5 if quick else 10**7
+    reps = 1 if quick else 5
+    rng = np.random.default_rng(12345)
+    results: dict[str, float] = {}
+    raw = best_of(lambda: rng.random(n), reps)
+    print(f"n = {n:.0e} draws; raw rng.random: {raw * 1e3:.1f} ms")
+    for k in (10, 100, 1000):
+        s = linear_sketch(k)
+        fast = s.sampler()
+        t = best_of(lambda fast=fast: fast.sample(n, rng=rng), reps)
+        results[f"linear{k}_vs_raw"] = raw / t
+        line = (
+            f"linear, {k:4d} knots: {t * 1e3:7.1f} ms  rate vs raw {raw / t:5.2f}x (target >= 0.30)"
+        )
+        if k == 100:
+            xk, pk = s.x, s.p
+            interp = best_of(lambda pk=pk, xk=xk: np.interp(rng.random(n), pk, xk), reps)
+            results["linear100_vs_interp"] = interp / t
+            line += f"  vs np.interp {interp / t:5.2f}x (target >= 4)"
+        print(line)
+    s = pchip_sketch()
+    fast = s.sampler()
+    t = best_of(lambda: fast.sample(n, rng=rng), reps)
+    results["pchip20_vs_raw"] = raw / t
+    line = f"pchip,    20 knots: {t * 1e3:7.1f} ms  rate vs raw {raw / t:5.2f}x (target >= 0.20)"
+    try:
+        from scipy.stats.sampling import NumericalInversePolynomial
+
+        class Dist:
+            def pdf(self, x):
+                return float(s.pdf(x))
+
+            def cdf(self, x):
+                return float(s.cdf(x))
+
+        lo, hi = s.ppf(1e-12), s.ppf(1 - 1e-12)
+        pinv = NumericalInversePolynomial(
+            Dist(), domain=(lo, hi), u_resolution=1e-10, random_state=1
+        )
+        tp = best_of(lambda: pinv.rvs(n), reps)
+        results["pchip20_vs_pinv"] = tp / t
+        line += f"  vs scipy PINV {tp / t:5.2f}x (target >= 1.5)"
+    except ImportError:
+        line += "  (scipy not installed: PINV baseline skipped)"
+    print(line)
+    print(f"pchip sampler: {fast.n_intervals} intervals")
+    # memory: peak allocation during sampling beyond the output array
+    for m in (10**5, 10**6) if quick else (10**6, 10**7):
+        tracemalloc.start()
+        out = fast.sample(m, rng=1)
+        peak = tracemalloc.get_traced_memory()[1]
+        tracemalloc.stop()
+        extra = peak - out.nbytes
+        results[f"extra_bytes_{m}"] = extra
+        print(f"peak extra memory for {m:.0e} draws: {extra / 1024:.0f} KiB beyond the output")
+    return results
+
+
+if __name__ == "__main__":
+    main(quick="--quick" in sys.argv)
