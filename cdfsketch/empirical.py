@@ -775,7 +775,9 @@ class ECDF:
         if 2 * xs.size <= max_points:
             vx, vp = _outline(xs, ps)
             return StepOutline(vx, vp, 0.0, 0.0)
-        k = np.ceil(ps / tol).astype(np.int64)
+        # bin index; clipped so rounding of p / tol at p = 1 cannot open an extra bin
+        nbins = math.ceil(1.0 / tol - 1e-12)
+        k = np.clip(np.ceil(ps / tol), 1, nbins).astype(np.int64)
         change = k[1:] != k[:-1]
         keep = np.r_[True, change] | np.r_[change, True]
         idx = np.flatnonzero(keep)

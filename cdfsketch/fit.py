@@ -114,23 +114,28 @@ class _ScipyModel(_Model):
         self.breakpoints = np.unique(np.asarray(bp, dtype=float))
 
     def cdf(self, x: np.ndarray) -> np.ndarray:
-        return self.dist.cdf(x)
+        with np.errstate(divide="ignore", over="ignore", under="ignore"):
+            return self.dist.cdf(x)
 
     def sf(self, x: np.ndarray) -> np.ndarray:
-        return self.dist.sf(x)
+        with np.errstate(divide="ignore", over="ignore", under="ignore"):
+            return self.dist.sf(x)
 
     def pdf(self, x: np.ndarray) -> np.ndarray:
-        return self.dist.pdf(x)
+        with np.errstate(divide="ignore", over="ignore", under="ignore"):
+            return self.dist.pdf(x)
 
     def logpdf(self, x: np.ndarray) -> np.ndarray:
         with np.errstate(divide="ignore"):
             return self.dist.logpdf(x)
 
     def ppf(self, u: np.ndarray) -> np.ndarray:
-        return self.dist.ppf(u)
+        with np.errstate(divide="ignore", over="ignore", under="ignore"):
+            return self.dist.ppf(u)
 
     def isf(self, q: np.ndarray) -> np.ndarray:
-        return self.dist.isf(q)
+        with np.errstate(divide="ignore", over="ignore", under="ignore"):
+            return self.dist.isf(q)
 
     def rvs(self, size: Any, gen: np.random.Generator) -> np.ndarray:
         return np.asarray(self.dist.rvs(size=size, random_state=gen), dtype=float)
@@ -165,7 +170,7 @@ def _invert(model: _Model, u: np.ndarray, lo: float, hi: float) -> np.ndarray:
             a = np.where(f < 0, x, a)
             b = np.where(f >= 0, x, b)
             d = model.pdf(x)
-            with np.errstate(divide="ignore", invalid="ignore"):
+            with np.errstate(divide="ignore", invalid="ignore", over="ignore"):
                 step = x - f / d
             bad = ~np.isfinite(step) | (step <= a) | (step >= b)
             new = np.where(bad, 0.5 * (a + b), step)
@@ -356,8 +361,8 @@ class Candidate:
         if bad.size:
             i = int(bad[0])
             raise ValueError(
-                f"{name} must be probabilities in [0, 1]; got {float(v.ravel()[i])!r} at flat index {i}."
-                " Rescale or clip them."
+                f"{name} must be probabilities in [0, 1]; got {float(v.ravel()[i])!r} at flat "
+                f"index {i}. Rescale or clip them."
             )
         return v
 

