@@ -2,17 +2,18 @@
 
 A sketch is compiled once into lookup tables over ``u``:
 
-* the body (the polynomial pieces and atoms between the exponential tails)
-  becomes right-closed intervals ``(ul, ur]`` with ``x = a + s (b + s (c +
-  s d))``, ``s = u - ul``. Linear pieces give ``c = d = 0`` and the exact
-  inverse; atoms give constant intervals; monotone cubic pieces are covered by
-  adaptively halved intervals, each a cubic through four exact inverse points,
-  until ``|u - F(x(u))| ≤ u_tolerance`` at test points inside every interval
-  and x(u) is non-decreasing there;
-* a uniform guide table over ``u`` (Chen & Asau 1974) finds the interval in
-  O(1): cell ``floor(u M)`` holds the first interval that can contain ``u``
-  and the one breakpoint that may lie inside the cell; the few cells holding
-  more breakpoints fall back to a binary search;
+* a uniform grid of ``M`` cells over ``u`` (a power of two, so ``u M`` is
+  exact): cell ``j = floor(u M)`` holds a polynomial in the cell's local
+  coordinate ``τ = u M - j``, ``x = a + τ (b + τ (c + τ d))`` — the exact
+  inverse for linear pieces and atoms, a cubic through four exact inverse
+  points for monotone cubic pieces, accepted only where ``|u - F(x(u))| ≤
+  u_tolerance`` at test points inside the cell and ``x(u)`` is non-decreasing.
+  So a draw costs one index, four gathers and a Horner step (the guide-table
+  idea of Chen & Asau 1974 taken to one interval per cell);
+* the few cells that hold a breakpoint (a knot's p, an atom, a tail's start)
+  or fail the accuracy test have NaN coefficients; their draws are redone
+  with right-closed intervals ``(ul, ur]`` found by binary search, built the
+  same way but halved adaptively until they pass;
 * exponential tails are inverted in closed form.
 
 Draws are made in cache-sized chunks with fixed-size work buffers, so the
@@ -37,7 +38,7 @@ if TYPE_CHECKING:
 __all__ = ["Sampler"]
 
 #: Draws transformed per chunk (fits the work buffers in L2 cache).
-DEFAULT_CHUNK = 1 << 14
+DEFAULT_CHUNK = 1 << 15
 _LOBATTO = (1.0 - 1.0 / math.sqrt(5.0)) / 2.0
 _FIT_TAU = np.array([0.0, _LOBATTO, 1.0 - _LOBATTO, 1.0])
 _FIT_INV = np.linalg.inv(np.vander(_FIT_TAU, 4, increasing=True))
@@ -73,18 +74,20 @@ class Sampler:
         "_c",
         "_cells",
         "_cubic",
-        "_cut",
         "_d",
-        "_guide",
+        "_ia",
+        "_ib",
+        "_ic",
+        "_id",
         "_lower",
         "_p_high",
         "_p_low",
-        "_slow",
         "_support",
         "_ul",
         "_upper",
         "_ur",
         "n_intervals",
+        "n_slow_cells",
     )
 
     def __init__(self, sketch: Sketch, *, u_tolerance: float = 1e-11) -> None:
@@ -96,60 +99,44 @@ class Sampler:
         pc = sketch._pieces  # the package's own value; no copy needed
         ul, ur, coef = _body_intervals(pc, float(u_tolerance))
         self._ul, self._ur = ul, ur
-        self._a, self._b, self._c, self._d = coef
+        self._ia, self._ib, self._ic, self._id = coef
         self._cubic = bool(np.any(coef[2] != 0) or np.any(coef[3] != 0))
         self._lower, self._upper = pc.lower, pc.upper
         self._p_low, self._p_high = pc.p_low, pc.p_high
         self._support = _pieces.support(pc)
         self.n_intervals = int(ul.size)
-        self._build_guide()
-
-    def _build_guide(self) -> None:
-        k = self._ur.size
-        cells = 1 << max(8, math.ceil(math.log2(4 * k)))
-        cells = min(cells, 1 << 16)
-        edges = np.arange(cells + 1) / cells
-        # cell j covers [j/M, (j+1)/M); the extra last cell takes u == 1 (ppf only)
-        start = np.minimum(np.searchsorted(self._ur, edges, side="left"), k - 1)
-        count = np.r_[start[1:] - start[:-1], 0]  # breakpoints inside each cell
-        cut = self._ur[start].copy()
-        cut[start >= k - 1] = np.inf
-        # the few cells with two or more breakpoints point at a sentinel interval
-        # whose coefficients are NaN; those draws are redone by binary search
-        slow = count > 1
-        start[slow] = k
-        cut[slow] = np.inf
+        cells = _cell_count(pc, self._cubic)
         self._cells = cells
-        self._guide = start.astype(np.intp)
-        self._cut = cut
-        self._slow = bool(slow.any())
-        self._ul, self._a, self._b, self._c, self._d = (
-            np.r_[arr, np.nan] for arr in (self._ul, self._a, self._b, self._c, self._d)
-        )
+        self._a, self._b, self._c, self._d = _cell_tables(pc, cells, float(u_tolerance))
+        self.n_slow_cells = int(np.isnan(self._a).sum())
 
     # ------------------------------------------------------------ evaluation
     def _transform(self, u: np.ndarray, out: np.ndarray, work: dict[str, np.ndarray]) -> None:
         """Write ``ppf(u)`` into ``out`` (same length), using preallocated work buffers."""
         n = u.size
         t = work["t"][:n]
+        g = work["g"][:n]
         j = work["j"][:n]
-        k = work["k"][:n]
         m = work["m"][:n]
         np.multiply(u, self._cells, out=t)
-        np.copyto(j, t, casting="unsafe")
+        np.modf(t, out=(t, g))  # t: the local coordinate in [0, 1); g: the cell, as a float
+        np.copyto(j, g, casting="unsafe")
         # indices are in range by construction: mode="clip" skips numpy's bounds check
-        np.take(self._guide, j, out=k, mode="clip")
-        np.take(self._cut, j, out=t, mode="clip")
-        np.greater(u, t, out=m)
-        k += m
-        self._evaluate(u, k, out, work)
-        if self._slow:
+        if self._cubic:
+            np.take(self._d, j, out=out, mode="clip")
+            out *= t
+            out += np.take(self._c, j, out=g, mode="clip")
+            out *= t
+            out += np.take(self._b, j, out=g, mode="clip")
+        else:
+            np.take(self._b, j, out=out, mode="clip")
+        out *= t
+        out += np.take(self._a, j, out=g, mode="clip")
+        if self.n_slow_cells:
             np.isnan(out, out=m)
             if m.any():
                 idx = np.flatnonzero(m)
-                kk = np.minimum(np.searchsorted(self._ur, u[idx], side="left"), self._ur.size - 1)
-                k[idx] = kk
-                self._evaluate(u, k, out, work, idx)
+                out[idx] = self._interval_ppf(u[idx])
         if self._lower is not None:
             np.less(u, self._p_low, out=m)
             if m.any():
@@ -162,43 +149,17 @@ class Sampler:
                 tail = self._upper
                 out[m] = tail.edge - tail.scale * np.log((1.0 - u[m]) / tail.mass)
 
-    def _evaluate(
-        self,
-        u: np.ndarray,
-        k: np.ndarray,
-        out: np.ndarray,
-        work: dict[str, np.ndarray],
-        idx: np.ndarray | None = None,
-    ) -> None:
-        """``out = a + s (b + s (c + s d))`` with ``s = u - ul`` (on ``idx`` only if given)."""
-        if idx is not None:
-            uu, kk = u[idx], k[idx]
-            s = uu - self._ul[kk]
-            x = self._a[kk] + s * (self._b[kk] + s * (self._c[kk] + s * self._d[kk]))
-            out[idx] = x
-            return
-        n = u.size
-        t = work["t"][:n]
-        g = work["g"][:n]
-        np.take(self._ul, k, out=t, mode="clip")
-        np.subtract(u, t, out=t)
-        if self._cubic:
-            np.take(self._d, k, out=out, mode="clip")
-            out *= t
-            out += np.take(self._c, k, out=g, mode="clip")
-            out *= t
-            out += np.take(self._b, k, out=g, mode="clip")
-        else:
-            np.take(self._b, k, out=out, mode="clip")
-        out *= t
-        out += np.take(self._a, k, out=g, mode="clip")
+    def _interval_ppf(self, u: np.ndarray) -> np.ndarray:
+        """The slow path: binary search over the intervals ``(ul, ur]``."""
+        k = np.minimum(np.searchsorted(self._ur, u, side="left"), self._ur.size - 1)
+        s = np.clip(u - self._ul[k], 0.0, None)
+        return self._ia[k] + s * (self._ib[k] + s * (self._ic[k] + s * self._id[k]))
 
     def _work(self, n: int) -> dict[str, np.ndarray]:
         return {
             "t": np.empty(n),
             "g": np.empty(n),
             "j": np.empty(n, dtype=np.intp),
-            "k": np.empty(n, dtype=np.intp),
             "m": np.empty(n, dtype=bool),
         }
 
@@ -313,7 +274,7 @@ def _body_intervals(
         if cubic[j]:
             rows.append(_cubic_intervals(pc, j, lo, hi, tol))
         else:
-            with np.errstate(over="ignore"):
+            with np.errstate(over="ignore", divide="ignore"):
                 b = pc.h[j] / pc.c[1, j]
             if not np.isfinite(b):  # a piece holding ~1e-300 of mass: its left end
                 b = 0.0
@@ -397,3 +358,106 @@ def _eval_tau(coef: np.ndarray, tau: np.ndarray) -> np.ndarray:
     """Evaluate cubics with coefficients ``coef`` (k, 4) at ``tau`` (m,) → (k, m)."""
     a, b, c, d = (coef[:, i, None] for i in range(4))
     return a + tau * (b + tau * (c + tau * d))
+
+
+def _cell_count(pc: _pieces.Pieces, cubic: bool) -> int:
+    """Cells ``M`` of the uniform grid: a power of two, so ``u M`` is exact."""
+    if cubic:
+        return 1 << 14
+    regions = pc.xa.size + pc.atom_x.size + 2
+    return 1 << min(16, max(12, math.ceil(math.log2(32 * regions))))
+
+
+def _regions(pc: _pieces.Pieces) -> tuple[np.ndarray, ...]:
+    """Stretches of ``u`` with one inverse each, in order: tails, atoms, pieces.
+
+    Returns ``(ul, ur, kind, index)`` with kind 0 = exponential tail (inverted
+    in closed form later), 1 = atom (``index`` into the atom positions
+    ``[xa..., x_end]``), 2 = linear piece, 3 = cubic piece (``index`` = piece).
+    """
+    rows: list[tuple[float, float, int, int]] = []
+    if pc.p_low > 0:
+        rows.append((0.0, pc.p_low, 0, -1))
+    before = np.r_[pc.p_low, pc.pr[:-1]]
+    cubic = pc.nonlinear()
+    for j in range(pc.xa.size):
+        if pc.pl[j] > before[j]:
+            rows.append((float(before[j]), float(pc.pl[j]), 1, j))
+        if pc.pr[j] > pc.pl[j]:
+            rows.append((float(pc.pl[j]), float(pc.pr[j]), 3 if cubic[j] else 2, j))
+    if pc.p_high > pc.pr[-1]:
+        rows.append((float(pc.pr[-1]), pc.p_high, 1, pc.xa.size))
+    if pc.p_high < 1:
+        rows.append((pc.p_high, 1.0, 0, -1))
+    return tuple(np.asarray(col) for col in zip(*rows, strict=True))
+
+
+def _cell_tables(pc: _pieces.Pieces, cells: int, tol: float) -> tuple[np.ndarray, ...]:
+    """Per-cell coefficients in the local coordinate; NaN marks a slow cell.
+
+    A cell ``[j/M, (j+1)/M)`` is fast when it lies inside one region: strictly
+    after the region's start (the inverse at ``u = ul`` belongs to the region
+    before, since intervals are right-closed) and not past its end. The extra
+    cell ``j = M`` (``u = 1``, ppf only) is always slow.
+    """
+    idx = np.arange(cells + 1)
+    lo = idx / cells
+    hi = (idx + 1) / cells
+    rul, rur, kind, which = _regions(pc)
+    r = np.minimum(np.searchsorted(rur, lo, side="left"), rur.size - 1)
+    fast = (lo > rul[r]) & (hi <= rur[r]) & (idx < cells)
+    a = np.full(cells + 1, np.nan)
+    b = np.zeros(cells + 1)
+    c = np.zeros(cells + 1)
+    d = np.zeros(cells + 1)
+    k = kind[r]
+    a[fast & (k == 0)] = 0.0
+    sel = fast & (k == 1)
+    a[sel] = np.r_[pc.xa, pc.x_end][which[r[sel]]]
+    sel = fast & (k == 2)
+    if sel.any():
+        j = which[r[sel]]
+        x_lo = _pieces.invert_pieces(pc, j, lo[sel])
+        x_hi = _pieces.invert_pieces(pc, j, hi[sel])
+        a[sel] = x_lo
+        b[sel] = x_hi - x_lo
+    sel = np.flatnonzero(fast & (k == 3))
+    if sel.size:
+        coef, ok = _fit_inverse_cubics(pc, which[r[sel]], lo[sel], hi[sel], tol)
+        good = sel[ok]
+        a[good], b[good], c[good], d[good] = coef[:, ok]
+    return a, b, c, d
+
+
+def _fit_inverse_cubics(
+    pc: _pieces.Pieces, j: np.ndarray, lo: np.ndarray, hi: np.ndarray, tol: float
+) -> tuple[np.ndarray, np.ndarray]:
+    """Fit ``x(τ)``, ``τ = (u - lo) / (hi - lo)``, on each ``[lo, hi]`` of cubic piece ``j``.
+
+    Returns the coefficients (4, k) in ``τ`` and whether each passes:
+    ``|u - F(x(u))| ≤ tol`` (plus the rounding floor of ``x``) at test points
+    and ``x(u)`` non-decreasing.
+    """
+    w = hi - lo
+    u_nodes = lo[:, None] + w[:, None] * _FIT_TAU[None, :]
+    u_nodes[:, -1] = hi
+    jj = np.repeat(j, _FIT_TAU.size)
+    x_nodes = _pieces.invert_pieces(pc, jj, u_nodes.ravel()).reshape(u_nodes.shape)
+    # fit x - x(lo): small numbers, so rounding of large x does not pollute the fit
+    x0 = x_nodes[:, :1]
+    tau_coef = (x_nodes - x0) @ _FIT_INV.T
+    u_test = lo[:, None] + w[:, None] * _TEST_TAU[None, :]
+    rel_test = _eval_tau(tau_coef, _TEST_TAU)
+    x_test = x0 + rel_test
+    cj = pc.c[:, j][:, :, None]
+    t = np.clip((x_test - pc.xa[j][:, None]) / pc.h[j][:, None], 0.0, 1.0)
+    err = np.abs(_pieces.poly(cj, t) - u_test).max(axis=1)
+    # u cannot be resolved finer than the density times the spacing of x there
+    dens = _pieces.dpoly(cj, t) / pc.h[j][:, None]
+    floor = 4 * (dens * np.spacing(np.abs(x_test))).max(axis=1)
+    path = np.concatenate([np.zeros_like(x0), rel_test, x_nodes[:, -1:] - x0], axis=1)
+    monotone = np.all(np.diff(path, axis=1) >= 0, axis=1)
+    ok = (err <= tol + floor) & monotone
+    coef = tau_coef.T.copy()
+    coef[0] += x0[:, 0]
+    return coef, ok

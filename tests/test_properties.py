@@ -93,6 +93,9 @@ def test_ppf_monotone_inside_support_and_inverts_cdf(s):
 @given(sketches(), st.integers(0, 2**32 - 1))
 @settings(max_examples=40, deadline=None)
 def test_samples_inside_support(s, seed):
+    pc = s._pieces
+    # every piece that holds mass has a positive rise in its polynomial
+    assert np.all((pc.pr > pc.pl) <= (pc.c[1:].sum(axis=0) > 0)), (s.x, s.p)
     draws = s.sample(2000, rng=seed)
     lo, hi = s.support
     assert np.all((draws >= lo) & (draws <= hi)) and np.all(np.isfinite(draws))

@@ -1,0 +1,179 @@
+"""The editor's table of exact knot values and the tail controls (ipywidgets only)."""
+
+from __future__ import annotations
+
+from collections.abc import Callable
+
+import ipywidgets as w
+import numpy as np
+
+from ..sketch import Sketch
+from ..tails import BoundedTail, ExponentialTail, Tail
+from . import palette
+
+__all__ = ["KnotTable", "TailControl"]
+
+_CELL = w.Layout(width="92px")
+
+
+class KnotTable:
+    """Rows of ``x``, ``p`` and a lock box per knot, reused between updates.
+
+    ``on_edit(i, field, value)`` is called when the analyst types a value;
+    ``on_lock(i, locked)`` when a lock box is ticked; ``on_select(i)`` when a
+    row's index button is pressed.
+    """
+
+    def __init__(
+        self,
+        *,
+        on_edit: Callable[[int, str, float], None],
+        on_lock: Callable[[int, bool], None],
+        on_select: Callable[[int], None],
+    ) -> None:
+        self._on_edit = on_edit
+        self._on_lock = on_lock
+        self._on_select = on_select
+        self._rows: list[tuple[w.Button, w.FloatText, w.FloatText, w.Checkbox]] = []
+        self._quiet = False
+        head = [w.HTML(f"<b style='color:{palette.DATA}'>{t}</b>") for t in ("knot", "x", "p")]
+        head.append(w.HTML(f"<b style='color:{palette.DATA}'>lock</b>"))
+        self._head = head
+        self.grid = w.GridBox(
+            head,
+            layout=w.Layout(grid_template_columns="44px 96px 96px 40px", grid_gap="1px 4px"),
+        )
+        self.box = w.Box(
+            [self.grid], layout=w.Layout(max_height="300px", overflow="auto", width="300px")
+        )
+        self.box.add_class("cdfsketch-knot-table")
+
+    def _make_row(self, i: int) -> tuple[w.Button, w.FloatText, w.FloatText, w.Checkbox]:
+        b = w.Button(description=str(i), layout=w.Layout(width="40px", height="26px"))
+        fx = w.FloatText(layout=_CELL)
+        fp = w.FloatText(layout=_CELL, step=0.01)
+        lock = w.Checkbox(indent=False, layout=w.Layout(width="36px"))
+        fx.add_class(f"cdfsketch-knot-x-{i}")
+        fp.add_class(f"cdfsketch-knot-p-{i}")
+        b.add_class(f"cdfsketch-knot-select-{i}")
+        lock.add_class(f"cdfsketch-knot-lock-{i}")
+        b.on_click(lambda _b, i=i: self._on_select(i))
+        fx.observe(lambda ch, i=i: self._edited(i, "x", ch), names="value")
+        fp.observe(lambda ch, i=i: self._edited(i, "p", ch), names="value")
+        lock.observe(lambda ch, i=i: self._locked(i, ch), names="value")
+        return b, fx, fp, lock
+
+    def _edited(self, i: int, field: str, change: dict) -> None:
+        if not self._quiet:
+            self._on_edit(i, field, change["new"])
+
+    def _locked(self, i: int, change: dict) -> None:
+        if not self._quiet:
+            self._on_lock(i, bool(change["new"]))
+
+    def show(
+        self, sketch: Sketch, *, locked: frozenset[int], selected: int | None, only: int | None
+    ) -> None:
+        """Write the sketch's knots into the cells (only changed cells are sent)."""
+        n = len(sketch)
+        self._quiet = True
+        try:
+            if len(self._rows) != n:
+                while len(self._rows) < n:
+                    self._rows.append(self._make_row(len(self._rows)))
+                del self._rows[n:]
+                self.grid.children = [*self._head, *(c for row in self._rows for c in row)]
+            todo = range(n) if only is None else (only,)
+            xs, ps = sketch.x, sketch.p
+            for i in todo:
+                b, fx, fp, lock = self._rows[i]
+                if fx.value != float(xs[i]):
+                    fx.value = float(xs[i])
+                if fp.value != float(ps[i]):
+                    fp.value = float(ps[i])
+                if only is None:
+                    lock.value = i in locked
+                    fx.disabled = fp.disabled = i in locked
+                    b.button_style = "info" if i == selected else ""
+        finally:
+            self._quiet = False
+
+    def revert(self, sketch: Sketch, i: int) -> None:
+        """Put the sketch's value back into row ``i`` after a refused edit."""
+        self.show(sketch, locked=frozenset(), selected=None, only=i)
+
+
+_TAIL_KINDS = [
+    ("exponential, derived scale", "exp-derived"),
+    ("exponential, stated scale", "exp-stated"),
+    ("bounded, uniform density", "bounded-uniform"),
+    ("bounded, density tapering to 0", "bounded-taper"),
+]
+
+
+class TailControl:
+    """Tail model on one side: a kind and its number (scale or limit)."""
+
+    def __init__(self, side: str, on_change: Callable[[str, Tail | ValueError], None]) -> None:
+        self.side = side
+        self._on_change = on_change
+        self._quiet = False
+        self._default_limit = 0.0
+        self.kind = w.Dropdown(
+            options=_TAIL_KINDS,
+            description=f"{side} tail",
+            layout=w.Layout(width="330px"),
+            style={"description_width": "76px"},
+        )
+        self.value = w.FloatText(description="", layout=w.Layout(width="110px"))
+        self.label = w.HTML()
+        self.kind.observe(self._changed, names="value")
+        self.value.observe(self._changed, names="value")
+        self.box = w.HBox([self.kind, self.label, self.value])
+        self.box.add_class(f"cdfsketch-tail-{side}")
+
+    def show(self, sketch: Sketch, default_limit: float) -> None:
+        """Reflect the sketch's tail on this side."""
+        i = 0 if self.side == "lower" else 1
+        tail = (sketch.lower_tail, sketch.upper_tail)[i]
+        self._quiet = True
+        try:
+            if isinstance(tail, BoundedTail):
+                self.kind.value = f"bounded-{tail.density}"
+                self.value.value = tail.limit
+                self.label.value = "limit"
+                self.value.disabled = False
+            else:
+                self.kind.value = "exp-derived" if tail.scale is None else "exp-stated"
+                scale = sketch.tail_scales[i] if tail.scale is None else tail.scale
+                self.value.value = float(scale) if scale is not None else float("nan")
+                self.label.value = "scale"
+                self.value.disabled = tail.scale is None
+        finally:
+            self._quiet = False
+        self._default_limit = default_limit
+
+    def _changed(self, change: dict) -> None:
+        if self._quiet:
+            return
+        try:
+            tail: Tail | ValueError = self._read(change["owner"] is self.kind)
+        except ValueError as err:
+            tail = err
+        self._on_change(self.side, tail)
+
+    def _read(self, kind_changed: bool) -> Tail:
+        kind = self.kind.value
+        v = float(self.value.value)
+        if kind == "exp-derived":
+            return ExponentialTail()
+        if kind == "exp-stated":
+            if not (np.isfinite(v) and v > 0):
+                raise ValueError(
+                    f"The {self.side} tail's scale must be a positive number; got {v!r}. "
+                    "Type a scale (in the data's units) or choose the derived scale."
+                )
+            return ExponentialTail(scale=v)
+        if kind_changed and self.label.value != "limit":
+            v = self._default_limit
+        return BoundedTail(v, kind.split("-", 1)[1])  # type: ignore[arg-type]
