@@ -42,6 +42,9 @@ __all__ = [
 # name -> module; imported on first attribute access (PEP 562)
 _LAZY = {
     "ECDF": "empirical",
+    "as_data": "empirical",
+    "dkw_eps": "empirical",
+    "DataError": "empirical",
     "fit_candidates": "fit",
     "compare": "fit",
     "pool": "elicit",

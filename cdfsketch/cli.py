@@ -54,7 +54,7 @@ def main(argv: Sequence[str] | None = None) -> int:
     Examples
     --------
     >>> main(["check", "no-such-file.json"])
-    no-such-file.json: No spec file at 'no-such-file.json'. Pass an existing path, a JSON string or a dict.
+    no-such-file.json: No spec file at 'no-such-file.json'...
     1
     """
     args = _parser().parse_args(argv)

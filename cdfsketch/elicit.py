@@ -530,7 +530,8 @@ def _check_distribution(dist: Any) -> None:
         )
     if not med[2] > med[0]:
         raise ValueError(
-            f"dist has no spread: ppf(0.25) = ppf(0.75) = {float(med[0])!r}. A point mass is not a sketch."
+            f"dist has no spread: ppf(0.25) = ppf(0.75) = {float(med[0])!r}. "
+            "A point mass is not a sketch."
         )
 
 

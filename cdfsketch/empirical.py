@@ -31,6 +31,8 @@ from typing import Any, Literal
 
 import numpy as np
 
+from ._checks import check_size
+
 __all__ = [
     "ECDF",
     "Band",
@@ -672,7 +674,7 @@ class ECDF:
         >>> ECDF([1, 2, 3], weights=[0, 1, 3]).sample(6, rng=0).tolist()
         [3.0, 3.0, 2.0, 2.0, 3.0, 3.0]
         """
-        shape = _check_size(size)
+        shape = check_size(size)
         if leftover not in ("refuse", "largest"):
             raise ValueError(f"leftover must be 'refuse' or 'largest'; got {leftover!r}.")
         xs, ps = self._x, self._p
@@ -786,21 +788,3 @@ class ECDF:
         max_error = float(np.max(ps - ps[last_kept]))
         vx, vp = _outline(xs[idx], ps[idx])
         return StepOutline(vx, vp, tol, max_error)
-
-
-def _check_size(size: Any) -> tuple[int, ...]:
-    if size is None:
-        return ()
-    sizes = (size,) if isinstance(size, numbers.Integral) else size
-    try:
-        shape = tuple(int(s) for s in sizes)
-        ok = all(
-            isinstance(s, numbers.Integral) and not isinstance(s, bool) and s >= 0 for s in sizes
-        )
-    except TypeError:
-        ok = False
-    if not ok:
-        raise ValueError(
-            f"size must be a non-negative int or a tuple of them; got {size!r}. E.g. size=1000."
-        )
-    return shape

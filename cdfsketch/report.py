@@ -455,16 +455,22 @@ class Review:
 
 # ====================================================================== shared geometry
 def x_range(review: Review) -> tuple[float, float]:
-    """The shared x range: the data and each candidate's 0.5–99.5 % range, padded 3 %."""
+    """The shared x range, padded 3 %.
+
+    It covers the data and each candidate's 1–99 % range; with data, a
+    long-tailed candidate extends it by at most half the data's span on each
+    side (its far tail stays readable in the table and the read-outs).
+    """
     lows, highs = [], []
-    if review.data is not None:
-        lows.append(float(review.data.min()))
-        highs.append(float(review.data.max()))
     for c in review.candidates:
-        q = c.ppf(np.array([0.005, 0.995]))
+        q = c.ppf(np.array([0.01, 0.99]))
         lows.append(float(q[0]))
         highs.append(float(q[1]))
     lo, hi = min(lows), max(highs)
+    if review.data is not None:
+        dlo, dhi = float(review.data.min()), float(review.data.max())
+        half = 0.5 * (dhi - dlo)
+        lo, hi = max(min(lo, dlo), dlo - half), min(max(hi, dhi), dhi + half)
     pad = 0.03 * (hi - lo) if hi > lo else 1.0
     return lo - pad, hi + pad
 
@@ -538,6 +544,12 @@ def colours(review: Review) -> list[str]:
     ]
 
 
+def dashed(review: Review) -> list[bool]:
+    """Whether each candidate's line is dashed: once the colours repeat, and never the chosen."""
+    n = len(palette.CANDIDATES)
+    return [(i // n) % 2 == 1 and c.name != review.chosen for i, c in enumerate(review.candidates)]
+
+
 def density_top(review: Review, cs: list[Curve], layers: dict[str, Any] | None) -> float:
     """Top of the density axis: histogram and the typical candidate peak, not a spike."""
     peaks = [float(np.max(c.pdf)) for c, r in zip(cs, review.candidates, strict=True)
@@ -595,9 +607,10 @@ def page_payload(review: Review, *, include_data: bool = False) -> dict[str, Any
     lo, hi = x_range(review)
     cols = colours(review)
     cands = []
-    for c, col in zip(review.candidates, cols, strict=True):
+    for c, col, dash in zip(review.candidates, cols, dashed(review), strict=True):
         cands.append(
             {
+                "dashed": dash,
                 "name": c.name,
                 "kind": c.kind,
                 "description": c.description,
@@ -821,13 +834,14 @@ def save_figure(
         down.bar(e[:-1], layers["density"], width=np.diff(e), align="edge",
                  color=palette.DATA, alpha=0.35, label="data histogram")  # fmt: skip
     spikes = None
-    for c, cv, col in zip(review.candidates, cs, cols, strict=True):
+    for c, cv, col, dash in zip(review.candidates, cs, cols, dashed(review), strict=True):
         chosen = c.name == review.chosen
         lw = 3.0 if chosen else 1.5
+        ls = "--" if dash else "-"
         label = f"{c.name} (chosen)" if chosen else c.name
-        up.plot(cv.x, cv.cdf, color=col, lw=lw, label=label)
+        up.plot(cv.x, cv.cdf, color=col, lw=lw, ls=ls, label=label)
         if c.kind != "data":
-            down.plot(cv.pdf_x, cv.pdf, color=col, lw=lw)
+            down.plot(cv.pdf_x, cv.pdf, color=col, lw=lw, ls=ls)
         if cv.atoms:
             if spikes is None:
                 spikes = down.twinx()

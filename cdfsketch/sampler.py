@@ -31,6 +31,7 @@ from typing import TYPE_CHECKING, Any
 import numpy as np
 
 from . import _pieces
+from ._checks import check_size
 
 if TYPE_CHECKING:
     from .sketch import Sketch
@@ -215,7 +216,7 @@ class Sampler:
         >>> bool(np.array_equal(fast.sample(100, rng=3), fast.sample(100, rng=3, chunk=7)))
         True
         """
-        shape = _check_size(size)
+        shape = check_size(size)
         if not (isinstance(chunk, int | np.integer) and chunk >= 1):
             raise ValueError(f"chunk must be a positive integer; got {chunk!r}.")
         gen = np.random.default_rng(rng)
@@ -231,23 +232,6 @@ class Sampler:
         if size is None:
             return float(out[0])
         return out.reshape(shape)
-
-
-def _check_size(size: Any) -> tuple[int, ...]:
-    if size is None:
-        return (1,)
-    dims = (size,) if isinstance(size, int | np.integer) else size
-    try:
-        shape = tuple(int(d) for d in dims)
-        ok = all(isinstance(d, int | np.integer) and d >= 0 for d in dims)
-    except (TypeError, ValueError):
-        ok = False
-    if not ok:
-        raise ValueError(
-            f"size must be a non-negative integer or a tuple of them; got {size!r}. "
-            "For example size=10_000 or size=(100, 3)."
-        )
-    return shape
 
 
 # ---------------------------------------------------------------- compilation

@@ -248,7 +248,7 @@ export function main(doc, payload) {
     box.checked = true;
     label.append(box);
     const sw = el(doc, "span", { class: "swatch" });
-    sw.style.background = e.colour;
+    sw.style.background = e.dashed ? `repeating-linear-gradient(90deg, ${e.colour} 0 7px, transparent 7px 11px)` : e.colour;
     label.append(sw);
     label.append(el(doc, "span", { class: "candidate-name" }, e.name));
     label.append(el(doc, "span", { class: "candidate-kind" }, ` ${e.description}${e.chosen ? " — chosen" : ""}`));
@@ -326,12 +326,12 @@ export function main(doc, payload) {
     const width = e.chosen ? 3.5 : 1.8;
     const gc = svgEl(doc, "g", { class: "candidate", "data-candidate": e.index });
     const line = cdfPolyline(e.dist, lo, hi);
-    gc.append(svgEl(doc, "path", { d: pathData(line.x, line.y, sx, syC), class: "curve cdf", stroke: e.colour, "stroke-width": width, "data-candidate": e.index }));
+    gc.append(svgEl(doc, "path", { d: pathData(line.x, line.y, sx, syC), class: "curve cdf", stroke: e.colour, "stroke-width": width, "stroke-dasharray": e.dashed ? "7 4" : "none", "data-candidate": e.index }));
     layerC.append(gc);
     const gp = svgEl(doc, "g", { class: "candidate", "data-candidate": e.index });
     const pl = pdfLines[entries.indexOf(e)];
     if (pl) {
-      gp.append(svgEl(doc, "path", { d: pathData(pl.x, pl.y, sx, syP), class: "curve pdf", stroke: e.colour, "stroke-width": width, "data-candidate": e.index }));
+      gp.append(svgEl(doc, "path", { d: pathData(pl.x, pl.y, sx, syP), class: "curve pdf", stroke: e.colour, "stroke-width": width, "stroke-dasharray": e.dashed ? "7 4" : "none", "data-candidate": e.index }));
     }
     for (const a of e.dist.atoms) {
       if (a.x < lo || a.x > hi) continue;

@@ -15,7 +15,8 @@ BENCHES = sorted((Path(__file__).parent / "bench").glob("bench_*.py"))
 
 
 @pytest.mark.parametrize("path", BENCHES, ids=[p.stem for p in BENCHES])
-def test_bench_runs_quick(path, capsys):
+def test_bench_runs_quick(path, capsys, monkeypatch):
+    monkeypatch.syspath_prepend(str(path.parent))  # as when run as a script
     spec = importlib.util.spec_from_file_location(path.stem, path)
     module = importlib.util.module_from_spec(spec)
     spec.loader.exec_module(module)

@@ -73,6 +73,8 @@ class DataView:
         self.kept_p = jp[kept]
         self.kept_p_left = np.where(kept > 0, jp[np.maximum(kept - 1, 0)], 0.0)
         self.tolerance = float(out.tolerance)
+        self._jump_x = jx
+        self._p_below = np.r_[0.0, jp]  # F_n just below each jump point, then F_n at the last
         # histogram (Rice rule 2·n^(1/3) bins, clipped to 10..60: common practice, no source)
         bins = int(min(60, max(10, math.ceil(2 * self.n ** (1 / 3)))))
         lo, hi = float(xs[0]), float(xs[-1])
@@ -135,8 +137,9 @@ class DataView:
 
     def outside_band(self, sketch: Sketch) -> np.ndarray:
         """Boolean per knot: ``p`` below the band's lower or above its upper edge at ``x``."""
-        lo = self.band.lower(sketch.x)
-        hi = self.band.upper(sketch.x)
+        f = self._p_below[np.searchsorted(self._jump_x, sketch.x, side="right")]  # F_n(x)
+        lo = np.maximum(f - self.band.eps, 0.0)
+        hi = np.minimum(f + self.band.eps, 1.0)
         return (sketch.p < lo - 1e-12) | (sketch.p > hi + 1e-12)
 
 

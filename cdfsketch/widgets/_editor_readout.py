@@ -41,7 +41,12 @@ def tail_text(sketch: Sketch, side: int) -> str:
     return f"exponential, scale {_fmt(scale)} ({how})"
 
 
-def readout(sketch: Sketch, data: DataView | None, quantiles: tuple[float, ...]) -> dict[str, Any]:
+def readout(
+    sketch: Sketch,
+    data: DataView | None,
+    quantiles: tuple[float, ...],
+    outside: np.ndarray | None = None,
+) -> dict[str, Any]:
     """The readout's numbers as a dict (what :attr:`Editor.readout` returns)."""
     out: dict[str, Any] = {
         "mean": float(sketch.mean()),
@@ -55,7 +60,9 @@ def readout(sketch: Sketch, data: DataView | None, quantiles: tuple[float, ...])
     }
     if data is not None:
         out.update(data.fit_numbers(sketch))
-        out["knots_outside_band"] = int(np.count_nonzero(data.outside_band(sketch)))
+        if outside is None:
+            outside = data.outside_band(sketch)
+        out["knots_outside_band"] = int(np.count_nonzero(outside))
         out["holdout_points"] = 0 if data.held is None else int(data.held.size)
         out["holdout_subsampled"] = data.live_subsampled
     return out

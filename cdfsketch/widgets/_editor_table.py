@@ -13,7 +13,7 @@ from . import palette
 
 __all__ = ["KnotTable", "TailControl"]
 
-_CELL = w.Layout(width="92px")
+_CELL = dict(width="92px")
 
 
 class KnotTable:
@@ -36,6 +36,13 @@ class KnotTable:
         self._on_select = on_select
         self._rows: list[tuple[w.Button, w.FloatText, w.FloatText, w.Checkbox]] = []
         self._quiet = False
+        # one Layout and one style per kind of cell, shared by every row (less state to send)
+        self._cell = w.Layout(**_CELL)
+        self._cell_style = w.widgets.widget_description.DescriptionStyle(description_width="0px")
+        self._bt_layout = w.Layout(width="40px", height="26px")
+        self._bt_style = w.ButtonStyle()
+        self._cb_layout = w.Layout(width="36px")
+        self._cb_style = w.widgets.widget_bool.CheckboxStyle()
         head = [w.HTML(f"<b style='color:{palette.DATA}'>{t}</b>") for t in ("knot", "x", "p")]
         head.append(w.HTML(f"<b style='color:{palette.DATA}'>lock</b>"))
         self._head = head
@@ -49,10 +56,10 @@ class KnotTable:
         self.box.add_class("cdfsketch-knot-table")
 
     def _make_row(self, i: int) -> tuple[w.Button, w.FloatText, w.FloatText, w.Checkbox]:
-        b = w.Button(description=str(i), layout=w.Layout(width="40px", height="26px"))
-        fx = w.FloatText(layout=_CELL)
-        fp = w.FloatText(layout=_CELL, step=0.01)
-        lock = w.Checkbox(indent=False, layout=w.Layout(width="36px"))
+        b = w.Button(description=str(i), layout=self._bt_layout, style=self._bt_style)
+        fx = w.FloatText(layout=self._cell, style=self._cell_style)
+        fp = w.FloatText(layout=self._cell, style=self._cell_style, step=0.01)
+        lock = w.Checkbox(indent=False, layout=self._cb_layout, style=self._cb_style)
         fx.add_class(f"cdfsketch-knot-x-{i}")
         fp.add_class(f"cdfsketch-knot-p-{i}")
         b.add_class(f"cdfsketch-knot-select-{i}")

@@ -445,7 +445,7 @@ class Editor(w.VBox):
                 for tc in self._tails:
                     tc.show(s, self._default_limit(tc.side))
                 self._interp.value = s.interpolation
-            r = readout(s, d, self._quantiles)
+            r = readout(s, d, self._quantiles, outside)
             self._readout = r
             self._readout_html.value = readout_html(r, d, s.units)
 

@@ -10,20 +10,11 @@ Run: ``python tests/bench/bench_empirical.py`` (``--quick`` for a smoke run).
 from __future__ import annotations
 
 import sys
-import time
 
 import numpy as np
+from _timing import best_of
 
 from cdfsketch.empirical import ECDF
-
-
-def best_of(fn, repeats: int) -> float:
-    best = np.inf
-    for _ in range(repeats):
-        t0 = time.perf_counter()
-        fn()
-        best = min(best, time.perf_counter() - t0)
-    return best
 
 
 def main(quick: bool = False) -> dict[str, float]:

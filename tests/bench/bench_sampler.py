@@ -12,21 +12,12 @@ Run: ``python tests/bench/bench_sampler.py`` (``--quick`` for a smoke run).
 from __future__ import annotations
 
 import sys
-import time
 import tracemalloc
 
 import numpy as np
+from _timing import best_of
 
 from cdfsketch import Sketch
-
-
-def best_of(fn, repeats: int) -> float:
-    best = np.inf
-    for _ in range(repeats):
-        t0 = time.perf_counter()
-        fn()
-        best = min(best, time.perf_counter() - t0)
-    return best
 
 
 def linear_sketch(k: int) -> Sketch:
