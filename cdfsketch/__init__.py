@@ -5,7 +5,7 @@ The core (knots, sketch, sampler, spec, empirical) needs numpy only:
 >>> import cdfsketch
 >>> s = cdfsketch.Sketch([0, 2, 5, 9], [0, 0.3, 0.8, 1], name="repair time", units="h")
 >>> round(float(cdfsketch.load(s.to_json()).sample(rng=1)), 4)
-2.9604
+3.2709
 
 The widgets (``Editor``, ``ReviewBoard``) and the fitting tools load lazily on
 first use, so a simulation that only loads specs and samples never imports

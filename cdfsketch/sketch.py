@@ -98,7 +98,7 @@ class Sketch:
     >>> s.cdf(10), s.ppf(0.75), round(s.mean(), 6)
     (0.5, 20.0, 12.5)
     >>> s.sample(3, rng=42).round(3)
-    array([18.689,  8.778, 22.877])
+    array([20.958,  8.778, 24.344])
     """
 
     __slots__ = (

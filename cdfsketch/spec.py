@@ -163,7 +163,7 @@ def data_fingerprint(data: Any, *, label: str = "") -> dict[str, Any]:
     --------
     >>> fp = data_fingerprint([1.0, 2.0, 3.0])
     >>> fp["n"], fp["sha256"][:12]
-    (3, '6bcf1b2ce1e2')
+    (3, 'a68de4b5e96a')
     """
     arr = np.ascontiguousarray(np.asarray(data, dtype="<f8").ravel())
     out: dict[str, Any] = {"sha256": hashlib.sha256(arr.tobytes()).hexdigest(), "n": int(arr.size)}

@@ -17,66 +17,53 @@ _CELL = dict(width="92px")
 
 
 class KnotTable:
-    """Rows of ``x``, ``p`` and a lock box per knot, reused between updates.
+    """Rows of ``x`` and ``p`` per knot (reused between updates).
 
-    ``on_edit(i, field, value)`` is called when the analyst types a value;
-    ``on_lock(i, locked)`` when a lock box is ticked; ``on_select(i)`` when a
-    row's index button is pressed.
+    ``on_edit(i, field, value)`` is called when the analyst types a value.
+    Each row is two ``FloatText`` cells and nothing else (the knot's number is
+    the ``x`` cell's description; a locked knot's cells are disabled and its
+    number carries a lock sign; the selected row is highlighted by a CSS
+    class): the state sent to the browser stays small with many knots.
     """
 
-    def __init__(
-        self,
-        *,
-        on_edit: Callable[[int, str, float], None],
-        on_lock: Callable[[int, bool], None],
-        on_select: Callable[[int], None],
-    ) -> None:
+    def __init__(self, *, on_edit: Callable[[int, str, float], None]) -> None:
         self._on_edit = on_edit
-        self._on_lock = on_lock
-        self._on_select = on_select
-        self._rows: list[tuple[w.Button, w.FloatText, w.FloatText, w.Checkbox]] = []
+        self._rows: list[tuple[w.FloatText, w.FloatText]] = []
         self._quiet = False
-        # one Layout and one style per kind of cell, shared by every row (less state to send)
-        self._cell = w.Layout(**_CELL)
-        self._cell_style = w.widgets.widget_description.DescriptionStyle(description_width="0px")
-        self._bt_layout = w.Layout(width="40px", height="26px")
-        self._bt_style = w.ButtonStyle()
-        self._cb_layout = w.Layout(width="36px")
-        self._cb_style = w.widgets.widget_bool.CheckboxStyle()
-        head = [w.HTML(f"<b style='color:{palette.DATA}'>{t}</b>") for t in ("knot", "x", "p")]
-        head.append(w.HTML(f"<b style='color:{palette.DATA}'>lock</b>"))
+        self._selected: int | None = None
+        # one Layout and one style per column, shared by every row (less state to send)
+        self._x_layout = w.Layout(width="150px")
+        self._p_layout = w.Layout(width="100px")
+        self._x_style = w.widgets.widget_description.DescriptionStyle(description_width="44px")
+        self._p_style = w.widgets.widget_description.DescriptionStyle(description_width="0px")
+        head = w.HTML(
+            f"<span style='color:{palette.DATA};font-size:12px'>knot &nbsp;&nbsp;&nbsp;&nbsp; x"
+            " &nbsp;&nbsp;&nbsp;&nbsp;&nbsp;&nbsp;&nbsp;&nbsp;&nbsp;&nbsp;&nbsp;&nbsp;&nbsp;"
+            "&nbsp;&nbsp;&nbsp;&nbsp;&nbsp;&nbsp;&nbsp; p</span>"
+        )
         self._head = head
         self.grid = w.GridBox(
-            head,
-            layout=w.Layout(grid_template_columns="44px 96px 96px 40px", grid_gap="1px 4px"),
+            [head],
+            layout=w.Layout(grid_template_columns="154px 104px", grid_gap="1px 2px"),
         )
+        self._head.layout.grid_column = "1 / span 2"
         self.box = w.Box(
-            [self.grid], layout=w.Layout(max_height="300px", overflow="auto", width="300px")
+            [self.grid], layout=w.Layout(max_height="300px", overflow="auto", width="290px")
         )
         self.box.add_class("cdfsketch-knot-table")
 
-    def _make_row(self, i: int) -> tuple[w.Button, w.FloatText, w.FloatText, w.Checkbox]:
-        b = w.Button(description=str(i), layout=self._bt_layout, style=self._bt_style)
-        fx = w.FloatText(layout=self._cell, style=self._cell_style)
-        fp = w.FloatText(layout=self._cell, style=self._cell_style, step=0.01)
-        lock = w.Checkbox(indent=False, layout=self._cb_layout, style=self._cb_style)
+    def _make_row(self, i: int) -> tuple[w.FloatText, w.FloatText]:
+        fx = w.FloatText(description=str(i), layout=self._x_layout, style=self._x_style)
+        fp = w.FloatText(layout=self._p_layout, style=self._p_style, step=0.01)
         fx.add_class(f"cdfsketch-knot-x-{i}")
         fp.add_class(f"cdfsketch-knot-p-{i}")
-        b.add_class(f"cdfsketch-knot-select-{i}")
-        lock.add_class(f"cdfsketch-knot-lock-{i}")
-        b.on_click(lambda _b, i=i: self._on_select(i))
         fx.observe(lambda ch, i=i: self._edited(i, "x", ch), names="value")
         fp.observe(lambda ch, i=i: self._edited(i, "p", ch), names="value")
-        lock.observe(lambda ch, i=i: self._locked(i, ch), names="value")
-        return b, fx, fp, lock
+        return fx, fp
 
     def _edited(self, i: int, field: str, change: dict) -> None:
         if not self._quiet:
             self._on_edit(i, field, change["new"])
-
-    def _locked(self, i: int, change: dict) -> None:
-        if not self._quiet:
-            self._on_lock(i, bool(change["new"]))
 
     def show(
         self, sketch: Sketch, *, locked: frozenset[int], selected: int | None, only: int | None
@@ -89,25 +76,39 @@ class KnotTable:
                 while len(self._rows) < n:
                     self._rows.append(self._make_row(len(self._rows)))
                 del self._rows[n:]
-                self.grid.children = [*self._head, *(c for row in self._rows for c in row)]
+                self.grid.children = [self._head, *(c for row in self._rows for c in row)]
             todo = range(n) if only is None else (only,)
             xs, ps = sketch.x, sketch.p
             for i in todo:
-                b, fx, fp, lock = self._rows[i]
+                fx, fp = self._rows[i]
                 if fx.value != float(xs[i]):
                     fx.value = float(xs[i])
                 if fp.value != float(ps[i]):
                     fp.value = float(ps[i])
                 if only is None:
-                    lock.value = i in locked
-                    fx.disabled = fp.disabled = i in locked
-                    b.button_style = "info" if i == selected else ""
+                    lock = i in locked
+                    label = f"{i} \N{LOCK}" if lock else str(i)
+                    if fx.description != label:
+                        fx.description = label
+                    if fx.disabled != lock:
+                        fx.disabled = fp.disabled = lock
+            if only is None and selected != self._selected:
+                for j, on in ((self._selected, False), (selected, True)):
+                    if j is not None and j < n:
+                        for c in self._rows[j]:
+                            (c.add_class if on else c.remove_class)("cdfsketch-selected-row")
+                self._selected = selected
         finally:
             self._quiet = False
 
     def revert(self, sketch: Sketch, i: int) -> None:
         """Put the sketch's value back into row ``i`` after a refused edit."""
-        self.show(sketch, locked=frozenset(), selected=None, only=i)
+        self._quiet = True
+        try:
+            fx, fp = self._rows[i]
+            fx.value, fp.value = float(sketch.x[i]), float(sketch.p[i])
+        finally:
+            self._quiet = False
 
 
 _TAIL_KINDS = [

@@ -60,6 +60,7 @@ _EDITED = "edited in the cdfsketch Editor"
 _STYLE = """<style>
 .cdfsketch-editor .curve, .cdfsketch-editor .curve * { pointer-events: none; }
 .cdfsketch-editor .cdfsketch-note { font-size: 11px; color: #6b6b6b; }
+.cdfsketch-editor .cdfsketch-selected-row input { background: #e8f1f8; font-weight: 600; }
 </style>"""
 
 
@@ -312,7 +313,7 @@ class Editor(w.VBox):
         self.message.add_class("cdfsketch-message")
         self._readout_html = w.HTML()
         self._readout_html.add_class("cdfsketch-readout")
-        self.table = KnotTable(on_edit=self._on_cell, on_lock=self._on_lock, on_select=self._pick)
+        self.table = KnotTable(on_edit=self._on_cell)
         self._interp = w.ToggleButtons(
             options=[("linear", "linear"), ("monotone cubic", "pchip")],
             style={"button_width": "120px"},
@@ -320,7 +321,14 @@ class Editor(w.VBox):
         self._interp.add_class("cdfsketch-interpolation")
         self._interp.observe(self._on_interp, names="value")
         self._tails = (TailControl("lower", self._on_tail), TailControl("upper", self._on_tail))
+        self._pick = w.Dropdown(
+            options=[("none", -1)], value=-1, description="selected knot",
+            layout=w.Layout(width="190px"), style={"description_width": "90px"},
+        )  # fmt: skip
+        self._pick.add_class("cdfsketch-pick")
+        self._pick.observe(self._on_pick, names="value")
         self._buttons = [
+            self._pick,
             self._button("add knot", "add", self.add_knot, "add a knot after the selected one"),
             self._button("remove selected", "remove", self.remove_selected),
             self._button("lock / unlock selected", "lock", self._toggle_lock),
@@ -439,6 +447,11 @@ class Editor(w.VBox):
                 cur = self.knots.selected
                 if (None if cur is None else list(cur)) != sel:
                     self.knots.selected = sel
+            if not drag:
+                n = len(s)
+                if len(self._pick.options) != n + 1:
+                    self._pick.options = [("none", -1), *((str(i), i) for i in range(n))]
+                self._pick.value = -1 if self.selected is None else self.selected
             only = self._gesture[0] if drag else None
             self.table.show(s, locked=self._locked, selected=self.selected, only=only)
             if not drag:
@@ -624,11 +637,9 @@ class Editor(w.VBox):
         if not self._apply(lambda sk: sk.replace(x=x, p=p)):
             self.table.revert(s, i)
 
-    def _on_lock(self, i: int, locked: bool) -> None:
-        self.lock(i, locked=locked)
-
-    def _pick(self, i: int) -> None:
-        self.selected = i
+    def _on_pick(self, change: dict) -> None:
+        if not self._writing:
+            self.selected = None if change["new"] < 0 else int(change["new"])
 
     def _toggle_lock(self) -> None:
         if self.selected is None:

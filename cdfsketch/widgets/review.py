@@ -115,16 +115,25 @@ class ReviewBoard(widgets.VBox):
             )
             upper_marks.append(
                 bqplot.Lines(
-                    x=layers["steps_x"], y=layers["steps_p"], scales=xs,
-                    colors=[palette.DATA], labels=["ECDF"], display_legend=True,
+                    x=layers["steps_x"],
+                    y=layers["steps_p"],
+                    scales=xs,
+                    colors=[palette.DATA],
+                    labels=["ECDF"],
+                    display_legend=True,
                 )  # fmt: skip
             )
             e, d = layers["edges"], layers["density"]
             lower_marks.append(
                 bqplot.Lines(
-                    x=np.repeat(e, 2), y=np.r_[0.0, np.repeat(d, 2), 0.0], scales=ps,
-                    fill="bottom", colors=[palette.DATA], fill_colors=[palette.DATA],
-                    fill_opacities=[0.3], labels=["data histogram"],
+                    x=np.repeat(e, 2),
+                    y=np.r_[0.0, np.repeat(d, 2), 0.0],
+                    scales=ps,
+                    fill="bottom",
+                    colors=[palette.DATA],
+                    fill_colors=[palette.DATA],
+                    fill_opacities=[0.3],
+                    labels=["data histogram"],
                 )  # fmt: skip
             )
         self.cdf_lines: dict[str, bqplot.Lines] = {}
@@ -149,17 +158,17 @@ class ReviewBoard(widgets.VBox):
             marks=upper_marks,
             axes=[
                 bqplot.Axis(scale=self.x_scale, label=label),
-                bqplot.Axis(scale=y_cdf, orientation="vertical", label="cumulative probability"),
+                bqplot.Axis(scale=y_cdf, side="left", label="cumulative probability"),
             ],
             title=r.name,
             legend_location="bottom-right",
             fig_margin=_FIG_MARGIN,
             layout=dict(_FIG_LAYOUT),
         )
-        lower_axes = [x_axis, bqplot.Axis(scale=y_pdf, orientation="vertical", label="density")]
+        lower_axes = [x_axis, bqplot.Axis(scale=y_pdf, side="left", label="density")]
         if masses:
             lower_axes.append(
-                bqplot.Axis(scale=y_mass, orientation="vertical", side="right", label="atom mass")
+                bqplot.Axis(scale=y_mass, side="right", label="atom mass")
             )
         self.pdf_figure = bqplot.Figure(
             marks=lower_marks, axes=lower_axes, fig_margin=_FIG_MARGIN,
@@ -186,7 +195,9 @@ class ReviewBoard(widgets.VBox):
         self.table_view = widgets.HTML()
         if r._table is not None:
             cols = list(r._table.columns)
-            self.sort_column = widgets.Dropdown(options=["(as given)", *cols], description="sort by")
+            self.sort_column = widgets.Dropdown(
+                options=["(as given)", *cols], description="sort by"
+            )
             self.sort_descending = widgets.Checkbox(value=False, description="descending")
             for w in (self.sort_column, self.sort_descending):
                 w.observe(lambda _change: self._show_table(), names="value")

@@ -1,0 +1,287 @@
+"""ReviewBoard and Review, kernel side: candidates, toggles, hover read-out, decision, spec.
+
+Data: the Nile river flows (statsmodels.datasets.nile, shipped offline, n=100,
+min 456, max 1370 — statsmodels 0.15). The expert sketches are invented.
+"""
+
+from __future__ import annotations
+
+import json
+from datetime import UTC, datetime
+
+import numpy as np
+import pytest
+
+import cdfsketch
+from cdfsketch import Sketch, validate_spec
+from cdfsketch.empirical import ECDF
+from cdfsketch.report import FIT_KNOTS, Review
+
+HOSTILE = ["<img src=x onerror=alert(1)>", "</script><script>alert(1)</script>"]
+
+
+@pytest.fixture(scope="module")
+def nile() -> np.ndarray:
+    sm = pytest.importorskip("statsmodels.api")
+    return sm.datasets.nile.load_pandas().data["volume"].to_numpy(dtype=float)
+
+
+@pytest.fixture(scope="module")
+def experts() -> list[Sketch]:
+    a = Sketch.from_quantiles({0.1: 650, 0.5: 880, 0.9: 1150}, name="expert A", units="1e8 m3")
+    b = Sketch.from_quantiles(
+        {0.05: 600, 0.5: 930, 0.95: 1250}, name=HOSTILE[0], units="1e8 m3", interpolation="pchip"
+    )
+    return [a, b]
+
+
+@pytest.fixture(scope="module")
+def fits(nile: np.ndarray) -> list:
+    from cdfsketch.fit import fit_candidates
+
+    return list(fit_candidates(nile, families=["normal", "gamma"], mixtures=[], kde=False, rng=0))
+
+
+@pytest.fixture
+def board(nile, experts, fits):
+    pooled = cdfsketch.pool(experts, name="pool")
+    return cdfsketch.ReviewBoard(
+        nile, [*experts, pooled, *fits, ECDF(nile)], units="1e8 m3", name="Nile flow", rng=3
+    )
+
+
+def test_candidates_named_and_kinded(board) -> None:
+    assert board.names == ("expert A", HOSTILE[0], "pool", "normal", "gamma", "resampled data")
+    kinds = [c.kind for c in board.review.candidates]
+    assert kinds == ["sketch", "sketch", "pool", "fit", "fit", "data"]
+    # one CDF line per candidate, a PDF line per continuous one; legend labels are the names
+    assert [line.labels[0] for line in board.cdf_lines.values()] == list(board.names)
+    assert set(board.pdf_lines) == set(board.names) - {"resampled data"}
+    assert set(board.spikes) == {"resampled data"}  # the only candidate with atoms
+    # one shared x scale for both panels
+    assert all(m.scales["x"] is board.x_scale for m in board.pdf_figure.marks)
+    assert all(m.scales["x"] is board.x_scale for m in board.cdf_figure.marks)
+    assert "1e8 m3" in board.cdf_figure.axes[0].label
+
+
+def test_resampled_data_is_the_ecdf(nile, board) -> None:
+    # Reference: scipy.stats.ecdf (the empirical CDF) at every data value and between them.
+    from scipy.stats import ecdf
+
+    ref = ecdf(nile).cdf
+    c = board.review.candidate("resampled data")
+    x = np.r_[np.unique(nile), np.unique(nile)[:-1] + 0.5, 400.0, 1400.0]
+    np.testing.assert_allclose(c.sketch.cdf(x), ref.evaluate(x), rtol=0, atol=1e-15)
+    masses = {a.x: a.mass for a in c.atoms}
+    vals, counts = np.unique(nile, return_counts=True)
+    np.testing.assert_allclose([masses[v] for v in vals], counts / nile.size, rtol=1e-12)
+
+
+def test_fit_sketch_form_close_to_scipy(nile, board, fits) -> None:
+    # Reference: scipy.stats.norm with the maximum-likelihood fit (mean, population sd).
+    from scipy.stats import norm
+
+    c = board.review.candidate("normal")
+    assert c.sketch.x.size == FIT_KNOTS
+    grid = np.linspace(400, 1400, 501)
+    ref = norm(nile.mean(), nile.std())
+    np.testing.assert_allclose(c.cdf(grid), ref.cdf(grid), rtol=0, atol=1e-9)
+    err = np.max(np.abs(c.sketch.cdf(grid) - ref.cdf(grid)))
+    assert err < 1e-3
+    assert "201 knots" in c.note
+    stated = c.sketch.provenance["extra"]["max_abs_cdf_error_vs_fit"]
+    assert err <= stated + 1e-12  # the stated error bounds what we see on this grid
+
+
+def test_toggles_hide_marks_and_readout(board) -> None:
+    assert all(board.visible.values())
+    board.toggles["gamma"].value = False
+    assert board.cdf_lines["gamma"].visible is False
+    assert board.pdf_lines["gamma"].visible is False
+    assert [r["name"] for r in board.readout_at(900.0)] == [
+        n for n in board.names if n != "gamma"
+    ]
+    board.set_visible("resampled data", False)
+    assert board.spikes["resampled data"].visible is False
+    board.set_visible("gamma", True)
+    assert board.cdf_lines["gamma"].visible is True
+    with pytest.raises(KeyError, match="No candidate named 'nope'"):
+        board.set_visible("nope", False)
+    with pytest.raises(TypeError, match="visible must be True or False"):
+        board.set_visible("gamma", 1)
+
+
+def test_hover_readout_values(nile, board) -> None:
+    # hovering is the IndexSelector's `selected`; the read-out shows F and f at that x
+    from scipy.stats import norm
+
+    board.selectors[0].selected = np.array([900.0])
+    text = board.readout.value
+    assert "x = 900 1e8 m3" in text
+    rows = {r["name"]: r for r in board.readout_at(900.0)}
+    ref = norm(nile.mean(), nile.std())
+    assert rows["normal"]["p"] == pytest.approx(ref.cdf(900.0), abs=1e-9)
+    assert rows["normal"]["density"] == pytest.approx(ref.pdf(900.0), rel=1e-9)
+    assert f"{ref.cdf(900.0):.4f}" in text
+    assert rows["resampled data"]["p"] == np.mean(nile <= 900.0)
+    assert rows["resampled data"]["density"] is None
+    # user text is escaped in the read-out
+    assert HOSTILE[0] not in text and "&lt;img src=x onerror=alert(1)&gt;" in text
+    with pytest.raises(ValueError, match="x must be a finite number"):
+        board.readout_at(float("nan"))
+
+
+def test_choose_records_provenance(nile, board) -> None:
+    when = datetime(2026, 3, 4, 9, 30, tzinfo=UTC)
+    board.choose("gamma", by="review group", rationale=HOSTILE[1], when=when)
+    assert board.chosen == "gamma"
+    # the chosen line is the sketch blue (palette.SKETCH) and thick, labelled as chosen
+    line = board.cdf_lines["gamma"]
+    assert line.colors == ["#0072B2"] and line.stroke_width > 3
+    assert line.labels == ["gamma (chosen)"]
+    assert board.cdf_lines["normal"].stroke_width < 3
+    spec = board.chosen_spec()
+    validate_spec(spec)
+    d = spec["provenance"]["decision"]
+    assert d["chosen"] == "gamma" and d["by"] == "review group" and d["rationale"] == HOSTILE[1]
+    assert d["when"] == "2026-03-04T09:30:00+00:00"
+    assert d["level"] == 0.95
+    assert d["data"] == cdfsketch.data_fingerprint(nile)
+    assert spec["provenance"]["data"] == cdfsketch.data_fingerprint(nile)
+    assert [c["name"] for c in d["competitors"]] == [n for n in board.names if n != "gamma"]
+    table = {r["name"]: r for r in board.table().rows}
+    for comp in d["competitors"]:
+        assert comp["ks"] == pytest.approx(table[comp["name"]]["ks"])
+    assert d["metrics"]["ks"] == pytest.approx(table["gamma"]["ks"])
+    # the spec is the fit's sketch form, named after the quantity
+    assert spec["name"] == "Nile flow" and spec["units"] == "1e8 m3"
+    assert len(spec["knots"]["x"]) == FIT_KNOTS
+    assert spec["provenance"]["method"] == "from candidate fit gamma"
+    loaded = cdfsketch.load(json.dumps(spec))
+    np.testing.assert_allclose(loaded.cdf([700, 900]), board.review.candidate("gamma").sketch.cdf([700, 900]))
+    # decisions are escaped in the widget
+    assert "<script>" not in board.decision_view.value
+
+
+def test_choose_data_and_sketch(nile, board) -> None:
+    board.choose("resampled data", by="group", rationale="use the record as it is")
+    spec = board.chosen_spec()
+    validate_spec(spec)
+    s = cdfsketch.load(spec)
+    assert len(s.atoms) == np.unique(nile).size
+    draws = s.sample(2000, rng=1)
+    assert set(np.unique(draws)) <= set(nile)
+    board.choose(HOSTILE[0], by="group", rationale="x")
+    spec = board.chosen_spec()
+    validate_spec(spec)
+    assert spec["provenance"]["decision"]["chosen"] == HOSTILE[0]
+    assert spec["provenance"]["method"] == "from stated quantiles"  # the sketch's own provenance
+
+
+def test_when_defaults_to_now_utc(board) -> None:
+    before = datetime.now(UTC).replace(microsecond=0)
+    d = board.choose("pool", by="g", rationale="r")
+    stamp = datetime.fromisoformat(d["when"])
+    assert stamp.tzinfo is not None and stamp.utcoffset().total_seconds() == 0
+    assert before <= stamp <= datetime.now(UTC)
+
+
+def test_record_button_uses_form(board) -> None:
+    board.choice.value = "normal"
+    board.decided_by.value = ""
+    board.rationale.value = "why"
+    board.record.click()
+    assert board.chosen is None
+    assert "by must not be empty" in board.decision_view.value
+    board.decided_by.value = "the group"
+    board.record.click()
+    assert board.chosen == "normal"
+
+
+def _column(table_html: str, column: str) -> list[str]:
+    """The cells of one column of an HTML table, in order (stdlib html.parser)."""
+    from html.parser import HTMLParser
+
+    rows: list[list[str]] = []
+
+    class Cells(HTMLParser):
+        cell: list[str] | None = None
+
+        def handle_starttag(self, tag, attrs):
+            if tag == "tr":
+                rows.append([])
+            elif tag in ("td", "th"):
+                self.cell = []
+
+        def handle_endtag(self, tag):
+            if tag in ("td", "th") and self.cell is not None:
+                rows[-1].append("".join(self.cell))
+                self.cell = None
+
+        def handle_data(self, data):
+            if self.cell is not None:
+                self.cell.append(data)
+
+    Cells().feed(table_html)
+    j = rows[0].index(column)
+    return [r[j] for r in rows[1:]]
+
+
+def test_table_sort_control(board) -> None:
+    ks = sorted(r["ks"] for r in board.table().rows)
+    board.sort_column.value = "ks"
+    assert _column(board.table_view.value, "ks") == [f"{v:.6g}" for v in ks]
+    board.sort_descending.value = True
+    assert _column(board.table_view.value, "ks") == [f"{v:.6g}" for v in ks[::-1]]
+    names = _column(board.table_view.value, "name")
+    assert HOSTILE[0] in names  # the parser unescapes: the text is the raw name
+    assert HOSTILE[0] not in board.table_view.value  # ...and the markup holds it escaped
+
+
+def test_nothing_chosen_yet(board) -> None:
+    with pytest.raises(ValueError, match="Nothing has been chosen yet"):
+        board.chosen_spec()
+
+
+def test_without_data() -> None:
+    a = Sketch([0, 4, 10], [0, 0.5, 1], name="a")
+    b = Sketch([0, 6, 12], [0, 0.5, 1], name="b")
+    board = cdfsketch.ReviewBoard(candidates=[a, b])
+    with pytest.raises(ValueError, match="no data, so there is no comparison table"):
+        board.table()
+    board.choose("b", by="x", rationale="y")
+    spec = board.chosen_spec()
+    validate_spec(spec)
+    assert spec["provenance"]["decision"]["data"] is None
+    assert spec["provenance"]["decision"]["competitors"] == [{"name": "a", "kind": "sketch"}]
+
+
+def test_bad_inputs_by_message(nile) -> None:
+    a = Sketch([0, 4, 10], [0, 0.5, 1], name="a")
+    with pytest.raises(ValueError, match=r"candidates\[1\] and candidates\[0\] are both called 'a'"):
+        Review(None, [a, a.replace(x=[0, 5, 10])])
+    with pytest.raises(ValueError, match=r"candidates\[0\] is a sketch without a name"):
+        Review(None, [Sketch([0, 1], [0, 1])])
+    with pytest.raises(TypeError, match=r"candidates\[1\] must be a Sketch, a fit Candidate"):
+        Review(None, [a, "gamma"])
+    with pytest.raises(ValueError, match="candidates is empty"):
+        Review(None, [])
+    with pytest.raises(TypeError, match="candidates must be a list"):
+        Review(None, "a")
+    with pytest.raises(ValueError, match="level must be a number strictly between 0 and 1"):
+        Review(None, [a], level=1.5)
+    with pytest.raises(ValueError, match=r"is in units 'min' but the review is in 'h'"):
+        Review(None, [a.replace(units="min")], units="h")
+    with pytest.raises(ValueError, match="two distinct values"):
+        Review([1.0, 1.0], [a])
+    with pytest.raises(ValueError, match="Kaplan–Meier"):
+        Review(None, [ECDF([1.0, 2.0, 3.0], censored=[False, True, False])])
+    r = Review(None, [a])
+    with pytest.raises(KeyError, match="No candidate named 'b' to choose"):
+        r.choose("b", by="x", rationale="y")
+    with pytest.raises(ValueError, match="rationale must not be empty"):
+        r.choose("a", by="x", rationale="  ")
+    with pytest.raises(TypeError, match="by must be a str"):
+        r.choose("a", by=None, rationale="y")
+    with pytest.raises(ValueError, match="when must be an ISO 8601 time"):
+        r.choose("a", by="x", rationale="y", when="yesterday")
