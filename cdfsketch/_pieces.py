@@ -14,6 +14,7 @@ Only numpy is imported here.
 
 from __future__ import annotations
 
+import functools
 import math
 from dataclasses import dataclass
 
@@ -148,13 +149,9 @@ def build_pieces(
     lower_exp = upper_exp = None
 
     p0, pn = float(p[0]), float(p[-1])
+    check_limits(x, lower, upper, p0, pn)
     if p0 > 0:
         if isinstance(lower, BoundedTail):
-            if not lower.limit < x[0]:
-                raise KnotError(
-                    f"A bounded lower tail needs its limit below the first knot; got limit="
-                    f"{lower.limit!r} and x[0]={float(x[0])!r}. Lower the limit or move the knot."
-                )
             xa.append(lower.limit)
             hh.append(x[0] - lower.limit)
             cs.append((0.0, p0, 0.0, 0.0) if lower.density == "uniform" else (0.0, 0.0, p0, 0.0))
@@ -177,11 +174,6 @@ def build_pieces(
     if pn < 1:
         mass = 1.0 - pn
         if isinstance(upper, BoundedTail):
-            if not upper.limit > x[-1]:
-                raise KnotError(
-                    f"A bounded upper tail needs its limit above the last knot; got limit="
-                    f"{upper.limit!r} and x[-1]={float(x[-1])!r}. Raise the limit or move the knot."
-                )
             xa.append(x[-1])
             hh.append(upper.limit - x[-1])
             if upper.density == "uniform":
@@ -194,7 +186,8 @@ def build_pieces(
     pl = c[0].copy()
     pr = c.sum(axis=0)
     # the polynomial pieces must meet the knots exactly at their right ends
-    pr = _snap_right_ends(pr, p, x, np.asarray(xa), np.asarray(hh), pn, upper_exp is None)
+    bounded_upper = pn < 1 and isinstance(upper, BoundedTail)
+    pr = _snap_right_ends(pr, p, x, np.asarray(xa), bounded_upper)
     xa_arr = np.asarray(xa, dtype=float)
     last = upper.limit if pn < 1 and isinstance(upper, BoundedTail) else x[-1]
     xb_arr = np.r_[xa_arr[1:], last]  # pieces are contiguous
@@ -215,17 +208,38 @@ def build_pieces(
     return pieces
 
 
-def _snap_right_ends(pr, p, x, xa, hh, pn, to_one) -> np.ndarray:
-    """Replace rounded right-end values by the exact knot probabilities."""
-    ends = xa + hh
+def check_limits(x: np.ndarray, lower: Tail, upper: Tail, p0: float, pn: float) -> None:
+    """Bounded tails' limits lie outside the knots (strictly where the tail holds mass)."""
+    if isinstance(lower, BoundedTail) and not (
+        lower.limit < x[0] or (lower.limit == x[0] and p0 == 0)
+    ):
+        raise KnotError(
+            f"A bounded lower tail needs its limit below the first knot; got limit="
+            f"{lower.limit!r} and x[0]={float(x[0])!r}. Lower the limit or move the knot."
+        )
+    if isinstance(upper, BoundedTail) and not (
+        upper.limit > x[-1] or (upper.limit == x[-1] and pn == 1)
+    ):
+        raise KnotError(
+            f"A bounded upper tail needs its limit above the last knot; got limit="
+            f"{upper.limit!r} and x[-1]={float(x[-1])!r}. Raise the limit or move the knot."
+        )
+
+
+def _snap_right_ends(
+    pr: np.ndarray, p: np.ndarray, x: np.ndarray, xa: np.ndarray, bounded_upper: bool
+) -> np.ndarray:
+    """Replace rounded right-end values by the exact knot probabilities.
+
+    The knot at a piece's right end (the first of a jump) is the first knot past
+    the piece's exact left end; the rounded right end ``xa + h`` could land one
+    knot too far. A bounded upper tail (the last piece) ends at probability 1.
+    """
     out = pr.copy()
-    # the knot at the right end (first of a jump) is the first knot past the piece's
-    # left end; searching for the rounded right end xa + h could land one knot too far
     idx = np.searchsorted(x, xa, side="right")
     inside = idx < x.size
     out[inside] = p[idx[inside]]
-    # a bounded upper tail ends at probability 1
-    if to_one and ends.size and ends[-1] > x[-1]:
+    if bounded_upper:
         out[-1] = 1.0
     return out
 
@@ -390,6 +404,15 @@ def ppf(pc: Pieces, u: np.ndarray) -> np.ndarray:
     return out
 
 
+def isf(pc: Pieces, q: np.ndarray) -> np.ndarray:
+    """Inverse survival function; exact deep in an upper exponential tail."""
+    out = ppf(pc, 1.0 - q)
+    if pc.upper is not None:
+        deep = (q > 0) & (q < pc.upper.mass)
+        out[deep] = pc.upper.edge + pc.upper.scale * np.log(pc.upper.mass / q[deep])
+    return out
+
+
 def support(pc: Pieces) -> tuple[float, float]:
     if pc.lower is not None:
         low = -math.inf
@@ -412,6 +435,13 @@ def support(pc: Pieces) -> tuple[float, float]:
 # ---------------------------------------------------------------- moments
 
 
+@functools.cache
+def _gauss_legendre_unit(n: int) -> tuple[np.ndarray, np.ndarray]:
+    """Gauss–Legendre nodes and weights on [0, 1] (exact for degree ≤ 2n − 1)."""
+    nodes, weights = np.polynomial.legendre.leggauss(n)
+    return 0.5 * (nodes + 1.0), 0.5 * weights
+
+
 def central_moment(pc: Pieces, k: int, about: float) -> float:
     """Exact ``E[(X - about)^k]`` (closed form per piece).
 
@@ -420,9 +450,7 @@ def central_moment(pc: Pieces, k: int, about: float) -> float:
     quadrature with enough nodes; atoms contribute ``m (x - about)^k``;
     exponential tails ``X = edge ± scale·E`` with ``E[E^j] = j!``.
     """
-    nodes, weights = np.polynomial.legendre.leggauss(k // 2 + 3)
-    t = 0.5 * (nodes + 1.0)
-    w = 0.5 * weights
+    t, w = _gauss_legendre_unit(k // 2 + 3)
     base = pc.xa - about
     vals = (base[:, None] + pc.h[:, None] * t[None, :]) ** k
     dens = dpoly(pc.c[:, :, None], t[None, :])

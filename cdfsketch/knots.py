@@ -7,7 +7,9 @@ A valid set of knots ``(x, p)`` describes a CDF through the points
 * ``x`` is non-decreasing and two neighbours may share an ``x`` (a jump, that
   is a point mass of size ``p[i+1] - p[i] > 0``) but never three;
 * ``p`` is non-decreasing and inside ``[0, 1]``;
-* the knots span a range: ``x[-1] > x[0]``.
+* the knots span a range: ``x[-1] > x[0]``;
+* magnitudes stay moderate: ``|x| ≤ 1e100`` and distinct positions at least
+  ``1e-100`` apart (rescale the units otherwise).
 
 :func:`check_knots` enforces this strictly (and says which index breaks it and
 how to repair it); :func:`project_knots` repairs any finite arrays to the
@@ -26,6 +28,11 @@ __all__ = ["KnotError", "check_knots", "clamp_knot", "min_gap", "project_knots"]
 #: Relative gap kept between a dragged knot and its neighbours, as a fraction
 #: of the knots' x range, so a drag never creates a jump by accident.
 MIN_GAP_FRACTION = 1e-9
+#: Knot positions are kept within this magnitude (beyond it, squares of x spacings in the
+#: monotone-cubic slopes and the sampler's tables lose range); rescale the units instead.
+MAX_ABS_X = 1e100
+#: Smallest spacing of distinct knot positions, for the same reason.
+MIN_SPACING = 1e-100
 
 
 class KnotError(ValueError):
@@ -128,6 +135,21 @@ def check_knots(x: object, p: object) -> tuple[np.ndarray, np.ndarray]:
             f"p[{i - 1}]={float(pa[i - 1])!r}. Sort the knots by x, or repair them with "
             "cdfsketch.project_knots()."
         )
+    big = np.flatnonzero(np.abs(xa) > MAX_ABS_X)
+    if big.size:
+        i = int(big[0])
+        raise KnotError(
+            f"Knot positions must satisfy |x| ≤ {MAX_ABS_X:g}; got x[{i}]={float(xa[i])!r}. "
+            "Express the quantity in larger units (e.g. millions) so the numbers stay moderate."
+        )
+    close = np.flatnonzero((dx > 0) & (dx < MIN_SPACING))
+    if close.size:
+        i = int(close[0]) + 1
+        raise KnotError(
+            f"Distinct knot positions must be at least {MIN_SPACING:g} apart; got "
+            f"x[{i}] - x[{i - 1}] = {float(dx[i - 1])!r}. Express the quantity in smaller units, "
+            "or make the two knots a jump (equal x)."
+        )
     tie = dx == 0
     triple = np.flatnonzero(tie[1:] & tie[:-1])
     if triple.size:
@@ -176,7 +198,8 @@ def _pool_adjacent_violators(y: np.ndarray) -> np.ndarray:
 def project_knots(x: object, p: object) -> tuple[np.ndarray, np.ndarray]:
     """Turn any finite knot arrays into the nearest valid knots.
 
-    The knots are sorted by ``x`` (ties by ``p``), then ``p`` is replaced by
+    The knots are sorted by ``x`` (ties by ``p``; positions closer than
+    :data:`MIN_SPACING` are merged into one), then ``p`` is replaced by
     its least-squares non-decreasing fit (pool adjacent violators, the L2
     isotonic projection) clipped to ``[0, 1]``. Where more than two knots share
     an ``x`` only the outer two are kept; where two knots share both ``x`` and
@@ -206,8 +229,21 @@ def project_knots(x: object, p: object) -> tuple[np.ndarray, np.ndarray]:
     ([0.0, 1.0, 2.0], [0.0, 0.4, 0.4])
     """
     xa, pa = _as_pair(x, p)
+    big = np.flatnonzero(np.abs(xa) > MAX_ABS_X)
+    if big.size:
+        i = int(big[0])
+        raise KnotError(
+            f"Knot positions must satisfy |x| ≤ {MAX_ABS_X:g}; got x[{i}]={float(xa[i])!r}. "
+            "Express the quantity in larger units so the numbers stay moderate."
+        )
     order = np.lexsort((pa, xa))
     xa = xa[order]
+    # positions closer than MIN_SPACING become one position (a jump)
+    close = np.r_[False, np.diff(xa) < MIN_SPACING]
+    if close.any():
+        xa = xa.copy()
+        for i in np.flatnonzero(close):
+            xa[i] = xa[i - 1]
     pa = np.clip(_pool_adjacent_violators(pa[order]), 0.0, 1.0)
     if not xa[-1] > xa[0]:
         raise KnotError(
@@ -290,17 +326,20 @@ def clamp_knot(
     gap = min_gap(xa)
     if new_x is not None:
         nx = _finite_scalar(new_x, "new_x")
-        if i > 0:
-            lo = xa[i - 1] if xa[i] == xa[i - 1] else xa[i - 1] + gap
-        else:
-            lo = x_low
-        if i < n - 1:
-            hi = xa[i + 1] if xa[i] == xa[i + 1] else xa[i + 1] - gap
-        else:
-            hi = x_high
+        # a knot that is half of a jump may stay on its partner's x; otherwise it keeps
+        # min_gap away from its neighbours
+        tie_lo = i > 0 and xa[i] == xa[i - 1]
+        tie_hi = i < n - 1 and xa[i] == xa[i + 1]
+        lo = (xa[i - 1] if tie_lo else xa[i - 1] + gap) if i > 0 else x_low
+        hi = (xa[i + 1] if tie_hi else xa[i + 1] - gap) if i < n - 1 else x_high
         if hi < lo:  # neighbours closer than the gap: stay where we are
             lo = hi = xa[i]
-        xa[i] = min(max(nx, lo), hi)
+        nx = min(max(nx, lo), hi)
+        if tie_lo and nx < xa[i - 1] + gap:
+            nx = xa[i - 1]
+        if tie_hi and nx > xa[i + 1] - gap:
+            nx = xa[i + 1]
+        xa[i] = nx
     if new_p is not None:
         np_ = _finite_scalar(new_p, "new_p")
         lo = pa[i - 1] if i > 0 else 0.0

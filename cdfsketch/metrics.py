@@ -431,8 +431,10 @@ def wasserstein1(data: ArrayLike, model: Any, *, weights: ArrayLike | None = Non
     return _integrals(_as_scored(model), y, w)[0]
 
 
-def crps(model: Any, y: ArrayLike) -> float:
-    """Mean continuous ranked probability score of ``model`` over observations ``y``.
+def crps(data: ArrayLike, model: Any) -> float:
+    """Mean continuous ranked probability score of ``model`` over the observations ``data``.
+
+    The argument order ``(data, model)`` is the same as for the other metrics.
 
     ``CRPS(F, y) = ∫ (F(x) - 1{x ≥ y})² dx`` (Gneiting & Raftery 2007);
     averaged over the observations it equals ``∫ (F - F_n)² dx + ∫ F_n(1 - F_n) dx``
@@ -443,10 +445,10 @@ def crps(model: Any, y: ArrayLike) -> float:
     Examples
     --------
     >>> from cdfsketch import Sketch
-    >>> round(crps(Sketch([0, 1], [0, 1]), 0.5), 6)
+    >>> round(crps(0.5, Sketch([0, 1], [0, 1])), 6)
     0.083333
     """
-    v = _observations(y, "y")
+    v = _observations(data, "data")
     return _integrals(_as_scored(model), v)[1] + _spread(v)
 
 

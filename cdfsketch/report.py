@@ -863,7 +863,7 @@ def save_figure(
     if review.chosen is not None:
         title += f" — chosen: {review.chosen}"
     up.set_title(title)
-    fig.text(0.01, 0.001, CAUTION, fontsize=6.5, color="#444444", ha="left", va="bottom")
+    fig.supxlabel(CAUTION, fontsize=6.5, color="#444444")  # constrained layout makes room
     fig.savefig(target, format=suffix[1:], dpi=dpi, metadata=_figure_metadata(suffix))
     return target
 

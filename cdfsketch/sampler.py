@@ -139,10 +139,12 @@ class Sampler:
                 idx = np.flatnonzero(m)
                 out[idx] = self._interval_ppf(u[idx])
         if self._lower is not None:
-            np.less(u, self._p_low, out=m)
+            np.less_equal(u, self._p_low, out=m)
             if m.any():
                 tail = self._lower
-                ut = np.maximum(u[m], 2.0**-54)
+                ut = u[m]
+                # a draw of exactly u = 0 (chance 2^-53) goes far into the tail, not to -inf
+                ut[ut == 0] = min(2.0**-54, 0.5 * tail.mass)
                 out[m] = tail.edge + tail.scale * np.log(ut / tail.mass)
         if self._upper is not None:
             np.greater(u, self._p_high, out=m)
@@ -264,6 +266,8 @@ def _body_intervals(
                 b = 0.0
             rows.append(tuple(np.array([v]) for v in (lo, hi, pc.xa[j], b, 0.0, 0.0)))
     const(float(pc.pr[-1]), pc.p_high, pc.x_end)
+    if not rows:  # all mass in the tails: one empty interval keeps the tables well formed
+        rows.append(tuple(np.array([v]) for v in (pc.p_low, pc.p_high, pc.x_start, 0, 0, 0)))
     cols = [np.concatenate([r[i] for r in rows]) for i in range(6)]
     ul, ur = cols[0], cols[1]
     ur[-1] = pc.p_high
@@ -272,21 +276,23 @@ def _body_intervals(
 
 
 def _keep_below_atoms(ul, ur, a, b, c, d) -> None:
-    """Shift intervals that end where an atom starts down by a few ulps, in place.
+    """Keep intervals that end where an atom starts strictly below the atom's x, in place.
 
     Rounding in the polynomial could otherwise put ``x(u)`` for ``u`` just
     below the atom a hair above the atom's ``x``, where ``F`` has already
-    jumped. The shift is at most a few units in the last place.
+    jumped. The rise ``b, c, d`` is scaled down by a few ulps; the start
+    ``a`` (the piece's own left end) does not move.
     """
     const = (b == 0) & (c == 0) & (d == 0)
-    before = np.flatnonzero(const[1:] & ~const[:-1])
-    for k in before:
+    for k in np.flatnonzero(const[1:] & ~const[:-1]):
         w = ur[k] - ul[k]
-        end = a[k] + w * (b[k] + w * (c[k] + w * d[k]))
-        target = a[k + 1]
-        margin = 2 * np.spacing(abs(target))
-        if end > target - margin:
-            a[k] -= end - target + margin
+        rise = w * (b[k] + w * (c[k] + w * d[k]))
+        target = a[k + 1] - 2 * np.spacing(abs(a[k + 1]))
+        if a[k] + rise > target and rise > 0:
+            shrink = max((target - a[k]) / rise, 0.0)
+            b[k] *= shrink
+            c[k] *= shrink
+            d[k] *= shrink
 
 
 def _cubic_intervals(
@@ -390,6 +396,9 @@ def _cell_tables(pc: _pieces.Pieces, cells: int, tol: float) -> tuple[np.ndarray
     rul, rur, kind, which = _regions(pc)
     r = np.minimum(np.searchsorted(rur, lo, side="left"), rur.size - 1)
     fast = (lo > rul[r]) & (hi <= rur[r]) & (idx < cells)
+    # a cell ending exactly where an atom starts could round past the atom's x
+    next_kind = np.r_[kind[1:], -1][r]
+    fast &= ~((hi == rur[r]) & (next_kind == 1))
     a = np.full(cells + 1, np.nan)
     b = np.zeros(cells + 1)
     c = np.zeros(cells + 1)

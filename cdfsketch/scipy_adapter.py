@@ -77,7 +77,7 @@ class FrozenSketch:
 
     def isf(self, q: Any) -> Any:
         u, bad, scalar = self._probs(q)
-        return self._finish(self.sketch.ppf(1.0 - u), bad, scalar)
+        return self._finish(self.sketch.isf(u), bad, scalar)
 
     def rvs(self, size: Any = None, random_state: Any = None) -> Any:
         """Draws; ``random_state`` is anything ``np.random.default_rng`` takes."""
@@ -109,21 +109,28 @@ class FrozenSketch:
         return float(self.sketch.ppf((1 - c) / 2)), float(self.sketch.ppf((1 + c) / 2))
 
     def stats(self, moments: str = "mv") -> tuple[float, ...]:
-        out = []
+        """Mean, variance, skewness, excess kurtosis (letters ``m``, ``v``, ``s``, ``k``), exact.
+
+        Central moments are computed about the mean directly, not from raw
+        moments (which cancel badly far from zero).
+        """
+        from . import _pieces
+
+        unknown = sorted(set(moments) - set("mvsk"))
+        if unknown:
+            raise ValueError(
+                f"moments takes the letters 'm', 'v', 's', 'k'; got {moments!r}. E.g. 'mvsk'."
+            )
         mu, var = self.mean(), self.var()
+        pc = self.sketch._pieces
+        out = []
         for m in moments:
             if m == "m":
                 out.append(mu)
             elif m == "v":
                 out.append(var)
-            elif m in "sk":
-                sd = var**0.5
-                c3 = self.sketch.moment(3) - 3 * mu * var - mu**3
-                c4 = (
-                    self.sketch.moment(4)
-                    - 4 * mu * self.sketch.moment(3)
-                    + 6 * mu**2 * self.sketch.moment(2)
-                    - 3 * mu**4
-                )
-                out.append(c3 / sd**3 if m == "s" else c4 / var**2 - 3.0)
+            elif m == "s":
+                out.append(_pieces.central_moment(pc, 3, mu) / var**1.5)
+            else:
+                out.append(_pieces.central_moment(pc, 4, mu) / var**2 - 3.0)
         return tuple(out)

@@ -17,6 +17,7 @@ import numpy as np
 from . import _pieces
 from ._pieces import INTERPOLATIONS
 from .knots import KnotError, check_knots, clamp_knot
+from .spec import check_provenance
 from .tails import BoundedTail, Tail, as_tail
 
 if TYPE_CHECKING:
@@ -134,11 +135,17 @@ class Sketch:
             )
         for label, text in (("name", name), ("units", units)):
             if not isinstance(text, str):
-                raise TypeError(f"{label} must be a str; got {type(text).__name__} {text!r}.")
+                raise TypeError(
+                    f"{label} must be a str; got {type(text).__name__} {text!r}. Pass text, "
+                    f"e.g. {label}='repair time'."
+                )
         if provenance is not None and not isinstance(provenance, Mapping):
             raise TypeError(
-                f"provenance must be a mapping (dict); got {type(provenance).__name__}."
+                f"provenance must be a mapping (dict); got {type(provenance).__name__}. "
+                "Pass e.g. provenance={'author': 'A. Analyst', 'rationale': '...'}."
             )
+        if provenance:
+            check_provenance(provenance)
         lower = as_tail(lower_tail, "lower")
         upper = as_tail(upper_tail, "upper")
         xa.setflags(write=False)
@@ -316,9 +323,15 @@ class Sketch:
         return float(self.ppf(0.5))
 
     def isf(self, q: ArrayLike) -> Any:
-        """Inverse survival function: ``ppf(1 - q)``."""
+        """Inverse survival function ``ppf(1 - q)``, exact deep in an exponential upper tail.
+
+        Examples
+        --------
+        >>> Sketch([0, 10], [0, 1]).isf(0.25)
+        7.5
+        """
         v, scalar = _as_probabilities(q, "q")
-        return self.ppf(float(1.0 - v) if scalar else 1.0 - v)
+        return _out(_pieces.isf(self._pieces, v.ravel()).reshape(v.shape), scalar)
 
     def prob_between(self, a: float, b: float) -> float:
         """``P(a < X ≤ b)``.
@@ -364,8 +377,10 @@ class Sketch:
         >>> round(Sketch([0, 1], [0, 1]).moment(2), 12)
         0.333333333333
         """
-        if not isinstance(k, int | np.integer) or k < 0:
-            raise ValueError(f"moment order must be a non-negative integer; got {k!r}.")
+        if isinstance(k, bool) or not isinstance(k, int | np.integer) or k < 0:
+            raise ValueError(
+                f"moment order must be a non-negative integer; got {k!r}. Pass e.g. k=2."
+            )
         return _pieces.central_moment(self._pieces, int(k), 0.0)
 
     def mean(self) -> float:
@@ -480,6 +495,11 @@ class Sketch:
         gap_lo = lo + (abs(lo) + 1.0) * 1e-12 if np.isfinite(lo) else lo
         gap_hi = hi - (abs(hi) + 1.0) * 1e-12 if np.isfinite(hi) else hi
         nx, np_ = clamp_knot(self._x, self._p, i, new_x=x, new_p=p, x_low=gap_lo, x_high=gap_hi)
+        # an end knot sitting on its bounded tail's limit keeps the tail empty
+        if nx[0] <= lo:
+            np_[0] = 0.0
+        if nx[-1] >= hi:
+            np_[-1] = 1.0
         return self.replace(x=nx, p=np_)
 
     def with_knot(self, x: float, p: float) -> Sketch:

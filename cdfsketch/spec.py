@@ -80,15 +80,18 @@ class SpecError(ValueError):
 
 
 def _tail_to_spec(sketch: Sketch, side: str) -> dict[str, Any]:
+    i = 0 if side == "lower" else 1
     tail = sketch.lower_tail if side == "lower" else sketch.upper_tail
+    stated = sketch.tails_given[i]
     if isinstance(tail, BoundedTail):
-        return {"kind": "bounded", "limit": tail.limit, "density": tail.density}
-    resolved = sketch.tail_scales[0 if side == "lower" else 1]
+        return {"kind": "bounded", "limit": tail.limit, "density": tail.density, "stated": stated}
+    resolved = sketch.tail_scales[i]
     scale = tail.scale if tail.scale is not None else resolved
     return {
         "kind": "exponential",
         "scale": scale,
         "scale_rule": "stated" if tail.scale is not None else "continue-density",
+        "stated": stated,
     }
 
 
@@ -123,7 +126,7 @@ def sketch_to_spec(sketch: Sketch, **provenance: Any) -> dict[str, Any]:
         "tails": {"lower": _tail_to_spec(sketch, "lower"), "upper": _tail_to_spec(sketch, "upper")},
         "provenance": prov,
     }
-    _check_provenance(prov)
+    check_provenance(prov)
     return spec
 
 
@@ -229,8 +232,14 @@ def read_spec(obj: Any) -> dict[str, Any]:
 
 def _number(value: Any, field: str) -> float:
     if isinstance(value, bool) or not isinstance(value, int | float):
-        raise SpecError(f"{field} must be a number; found {value!r}.")
-    v = float(value)
+        raise SpecError(f"{field} must be a number; found {value!r}. Write a JSON number there.")
+    try:
+        v = float(value)
+    except OverflowError:
+        raise SpecError(
+            f"{field} is too large for a float ({len(str(value))} digits). Use moderate numbers "
+            "(rescale the units)."
+        ) from None
     if not math.isfinite(v):
         raise SpecError(f"{field} must be finite; found {v!r}. Describe unbounded ends by tails.")
     return v
@@ -245,10 +254,30 @@ def _check_keys(obj: Mapping[str, Any], allowed: tuple[str, ...], where: str) ->
         )
 
 
-def _check_provenance(prov: Any) -> None:
+def check_provenance(prov: Any) -> None:
+    """Check a provenance record: known keys, right types, plain JSON (no NaN).
+
+    Examples
+    --------
+    >>> check_provenance({"author": "A. Analyst"})
+    >>> check_provenance({"autor": "A. Analyst"})
+    Traceback (most recent call last):
+    ...
+    cdfsketch.spec.SpecError: Unknown key 'autor' in provenance; allowed keys are ...
+    """
     if not isinstance(prov, Mapping):
-        raise SpecError(f"provenance must be an object; found {type(prov).__name__}.")
+        raise SpecError(
+            f"provenance must be an object; found {type(prov).__name__}. Pass a dict such as "
+            "{'author': 'A. Analyst'}."
+        )
     _check_keys(prov, _PROVENANCE_KEYS, "provenance")
+    try:
+        json.dumps(prov, allow_nan=False)
+    except (TypeError, ValueError) as exc:
+        raise SpecError(
+            f"provenance must be plain JSON (strings, finite numbers, lists, objects); {exc}. "
+            "Convert arrays with .tolist() and leave out NaN or infinite values."
+        ) from None
     for key in _PROVENANCE_TEXT:
         if key in prov and not isinstance(prov[key], str):
             raise SpecError(f"provenance.{key} must be a string; found {prov[key]!r}.")
@@ -289,21 +318,43 @@ def _check_provenance(prov: Any) -> None:
             raise SpecError(f"provenance.{key} must be an object; found {prov[key]!r}.")
 
 
-def _tail_from_spec(obj: Any, side: str) -> tuple[BoundedTail | ExponentialTail, float | None]:
+def _tail_from_spec(
+    obj: Any, side: str
+) -> tuple[BoundedTail | ExponentialTail | None, float | None]:
     where = f"tails.{side}"
     if not isinstance(obj, Mapping):
         raise SpecError(f"{where} must be an object with a 'kind'; found {obj!r}.")
     kind = obj.get("kind")
+    stated = obj.get("stated", True)
+    if not isinstance(stated, bool):
+        raise SpecError(f"{where}.stated must be true or false; found {stated!r}.")
     if kind == "bounded":
-        _check_keys(obj, ("kind", "limit", "density"), where)
-        density = obj.get("density", "uniform")
+        _check_keys(obj, ("kind", "limit", "density", "stated"), where)
+        if not stated:
+            raise SpecError(
+                f"{where}: only the default tail (exponential, continue-density) can be "
+                "unstated; found a bounded tail with stated=false. Set stated to true."
+            )
+        if "density" not in obj:
+            raise SpecError(f'{where} lacks \'density\'; add "density": "uniform" or "taper".')
+        density = obj.get("density")
         if density not in ("uniform", "taper"):
             raise SpecError(f"{where}.density must be 'uniform' or 'taper'; found {density!r}.")
         return BoundedTail(_number(obj.get("limit"), f"{where}.limit"), density), None
     if kind == "exponential":
-        _check_keys(obj, ("kind", "scale", "scale_rule"), where)
+        _check_keys(obj, ("kind", "scale", "scale_rule", "stated"), where)
         rule = obj.get("scale_rule")
         scale = obj.get("scale")
+        if rule not in ("stated", "continue-density"):
+            raise SpecError(
+                f"{where}.scale_rule must be 'stated' or 'continue-density'; found {rule!r}."
+            )
+        if not stated and rule != "continue-density":
+            raise SpecError(
+                f"{where}: an unstated (default) tail derives its scale; found scale_rule "
+                f"{rule!r} with stated=false. Set stated to true or the rule to "
+                "'continue-density'."
+            )
         if rule == "stated":
             s = _number(scale, f"{where}.scale")
             if s <= 0:
@@ -311,7 +362,7 @@ def _tail_from_spec(obj: Any, side: str) -> tuple[BoundedTail | ExponentialTail,
             return ExponentialTail(s), None
         if rule == "continue-density":
             stored = None if scale is None else _number(scale, f"{where}.scale")
-            return ExponentialTail(None), stored
+            return (ExponentialTail(None) if stated else None), stored
         raise SpecError(
             f"{where}.scale_rule must be 'stated' or 'continue-density'; found {rule!r}."
         )
@@ -347,16 +398,27 @@ def spec_to_sketch(spec: Mapping[str, Any]) -> Sketch:
     _check_keys(spec, _TOP_KEYS, "the spec")
     missing = [k for k in _REQUIRED if k not in spec]
     if missing:
-        raise SpecError(f"The spec lacks the required key {missing[0]!r}.")
-    for key in ("name", "units"):
+        raise SpecError(
+            f"The spec lacks the required key {missing[0]!r}. Write the spec with "
+            "Sketch.to_json(), or add the key (see cdfsketch.spec.schema())."
+        )
+    for key, longest in (("name", 500), ("units", 100)):
         if key in spec and not isinstance(spec[key], str):
-            raise SpecError(f"{key} must be a string; found {spec[key]!r}.")
+            raise SpecError(f"{key} must be a string; found {spec[key]!r}. Write it as text.")
+        if len(spec.get(key, "")) > longest:
+            raise SpecError(
+                f"{key} may have at most {longest} characters; found {len(spec[key])}. Put longer "
+                "text in provenance.notes."
+            )
     interp = spec["interpolation"]
     if interp not in ("linear", "pchip"):
         raise SpecError(f"interpolation must be 'linear' or 'pchip'; found {interp!r}.")
     knots = spec["knots"]
     if not isinstance(knots, Mapping):
-        raise SpecError("knots must be an object with arrays 'x' and 'p'.")
+        raise SpecError(
+            f"knots must be an object with arrays 'x' and 'p'; found {type(knots).__name__}. "
+            'Write e.g. "knots": {"x": [0, 1], "p": [0, 1]}.'
+        )
     _check_keys(knots, ("x", "p"), "knots")
     arrays = {}
     for key in ("x", "p"):
@@ -371,12 +433,15 @@ def spec_to_sketch(spec: Mapping[str, Any]) -> Sketch:
         arrays[key] = [_number(v, f"knots.{key}[{i}]") for i, v in enumerate(values)]
     tails_obj = spec["tails"]
     if not isinstance(tails_obj, Mapping):
-        raise SpecError("tails must be an object with 'lower' and 'upper'.")
+        raise SpecError(
+            f"tails must be an object with 'lower' and 'upper'; found {type(tails_obj).__name__}. "
+            'Write e.g. "tails": {"lower": {...}, "upper": {...}}.'
+        )
     _check_keys(tails_obj, ("lower", "upper"), "tails")
     lower, lower_stored = _tail_from_spec(tails_obj.get("lower"), "lower")
     upper, upper_stored = _tail_from_spec(tails_obj.get("upper"), "upper")
     prov = spec.get("provenance", {})
-    _check_provenance(prov)
+    check_provenance(prov)
     try:
         sketch = Sketch(
             arrays["x"],

@@ -74,9 +74,9 @@ export function niceTicks(lo, hi, count = 6) {
   const mag = 10 ** Math.floor(Math.log10(raw));
   const step = [1, 2, 5, 10].map((m) => m * mag).find((s) => s >= raw);
   const out = [];
-  for (let t = Math.ceil(lo / step) * step; t <= hi + step * 1e-9; t += step) {
-    out.push(Math.abs(t) < step * 1e-9 ? 0 : Number(t.toPrecision(12)));
-  }
+  const first = Math.ceil(lo / step - 1e-9);
+  const last = Math.floor(hi / step + 1e-9);
+  for (let k = first; k <= last; k++) out.push(k === 0 ? 0 : Number((k * step).toPrecision(12)));
   return out;
 }
 
@@ -344,6 +344,13 @@ export function main(doc, payload) {
   }
   cdfSvg.append(layerC);
   pdfSvg.append(layerP);
+  // the geometry, for anyone reading values back from the drawing (the browser tests do)
+  for (const [svg, sy] of [[cdfSvg, syC], [pdfSvg, syP]]) {
+    svg.setAttribute("data-x-domain", `${lo} ${hi}`);
+    svg.setAttribute("data-x-pixels", `${MARGIN.left} ${VIEW_W - MARGIN.right}`);
+    svg.setAttribute("data-y-domain", sy.domain.join(" "));
+    svg.setAttribute("data-y-pixels", `${sy.map(sy.domain[0])} ${sy.map(sy.domain[1])}`);
+  }
 
   // hover: a guide line in both panels and the read-out
   const readout = el(doc, "div", { id: "readout", "aria-live": "polite" });

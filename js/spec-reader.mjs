@@ -179,9 +179,22 @@ function tailFromSpec(obj, side) {
     throw new SpecError(`${where} must be an object with a 'kind'; found ${show(obj)}.`);
   }
   const kind = own(obj, "kind");
+  const stated = hasOwn(obj, "stated") ? obj.stated : true;
+  if (typeof stated !== "boolean") {
+    throw new SpecError(`${where}.stated must be true or false; found ${show(stated)}.`);
+  }
   if (kind === "bounded") {
-    checkKeys(obj, ["kind", "limit", "density"], where);
-    const density = hasOwn(obj, "density") ? obj.density : "uniform";
+    checkKeys(obj, ["kind", "limit", "density", "stated"], where);
+    if (!stated) {
+      throw new SpecError(
+        `${where}: only the default tail (exponential, continue-density) can be unstated; ` +
+          "found a bounded tail with stated=false. Set stated to true.",
+      );
+    }
+    if (!hasOwn(obj, "density")) {
+      throw new SpecError(`${where} lacks 'density'; add "density": "uniform" or "taper".`);
+    }
+    const density = obj.density;
     if (density !== "uniform" && density !== "taper") {
       throw new SpecError(`${where}.density must be 'uniform' or 'taper'; found ${show(density)}.`);
     }
@@ -189,9 +202,20 @@ function tailFromSpec(obj, side) {
     return { tail: { kind: "bounded", limit, density }, stored: null };
   }
   if (kind === "exponential") {
-    checkKeys(obj, ["kind", "scale", "scale_rule"], where);
+    checkKeys(obj, ["kind", "scale", "scale_rule", "stated"], where);
     const rule = own(obj, "scale_rule");
     const scale = own(obj, "scale");
+    if (rule !== "stated" && rule !== "continue-density") {
+      throw new SpecError(
+        `${where}.scale_rule must be 'stated' or 'continue-density'; found ${show(rule)}.`,
+      );
+    }
+    if (!stated && rule !== "continue-density") {
+      throw new SpecError(
+        `${where}: an unstated (default) tail derives its scale; found scale_rule ` +
+          `${show(rule)} with stated=false. Set stated to true or the rule to 'continue-density'.`,
+      );
+    }
     if (rule === "stated") {
       const s = number(scale, `${where}.scale`);
       if (s <= 0) throw new SpecError(`${where}.scale must be positive; found ${show(s)}.`);
@@ -207,6 +231,10 @@ function tailFromSpec(obj, side) {
   }
   throw new SpecError(`${where}.kind must be 'bounded' or 'exponential'; found ${show(kind)}.`);
 }
+
+// cdfsketch.knots.MAX_ABS_X and MIN_SPACING
+const MAX_ABS_X = 1e100;
+const MIN_SPACING = 1e-100;
 
 // cdfsketch.knots.check_knots (x and p are already finite numbers).
 function checkKnots(x, p) {
@@ -241,6 +269,23 @@ function checkKnots(x, p) {
       throw new Error(
         `Knot probabilities must be non-decreasing; got p[${i}]=${p[i]} < p[${i - 1}]=` +
           `${p[i - 1]}. Sort the knots by x.`,
+      );
+    }
+  }
+  for (let i = 0; i < n; i++) {
+    if (Math.abs(x[i]) > MAX_ABS_X) {
+      throw new Error(
+        `Knot positions must satisfy |x| ≤ 1e+100; got x[${i}]=${x[i]}. Express the quantity ` +
+          "in larger units (e.g. millions) so the numbers stay moderate.",
+      );
+    }
+  }
+  for (let i = 1; i < n; i++) {
+    const dx = x[i] - x[i - 1];
+    if (dx > 0 && dx < MIN_SPACING) {
+      throw new Error(
+        `Distinct knot positions must be at least 1e-100 apart; got x[${i}] - x[${i - 1}] = ` +
+          `${dx}. Express the quantity in smaller units, or make the two knots a jump (equal x).`,
       );
     }
   }
@@ -508,14 +553,21 @@ function buildPieces(x, p, interpolation, lower, upper) {
   let upperExp = null;
   const p0 = p[0];
   const pn = p[n - 1];
+  // cdfsketch._pieces.check_limits: limits lie outside the knots, with or without mass
+  if (lower.kind === "bounded" && !(lower.limit < x[0])) {
+    throw new Error(
+      `A bounded lower tail needs its limit below the first knot; got limit=` +
+        `${lower.limit} and x[0]=${x[0]}. Lower the limit or move the knot.`,
+    );
+  }
+  if (upper.kind === "bounded" && !(upper.limit > x[n - 1])) {
+    throw new Error(
+      `A bounded upper tail needs its limit above the last knot; got limit=` +
+        `${upper.limit} and x[-1]=${x[n - 1]}. Raise the limit or move the knot.`,
+    );
+  }
   if (p0 > 0) {
     if (lower.kind === "bounded") {
-      if (!(lower.limit < x[0])) {
-        throw new Error(
-          `A bounded lower tail needs its limit below the first knot; got limit=` +
-            `${lower.limit} and x[0]=${x[0]}. Lower the limit or move the knot.`,
-        );
-      }
       xa.push(lower.limit);
       hh.push(x[0] - lower.limit);
       cs.push(lower.density === "uniform" ? [0.0, p0, 0.0, 0.0] : [0.0, 0.0, p0, 0.0]);
@@ -544,12 +596,6 @@ function buildPieces(x, p, interpolation, lower, upper) {
   if (pn < 1) {
     const mass = 1.0 - pn;
     if (upper.kind === "bounded") {
-      if (!(upper.limit > x[n - 1])) {
-        throw new Error(
-          `A bounded upper tail needs its limit above the last knot; got limit=` +
-            `${upper.limit} and x[-1]=${x[n - 1]}. Raise the limit or move the knot.`,
-        );
-      }
       xa.push(x[n - 1]);
       hh.push(upper.limit - x[n - 1]);
       cs.push(upper.density === "uniform" ? [pn, mass, 0.0, 0.0] : [pn, 2 * mass, -mass, 0.0]);
@@ -563,14 +609,14 @@ function buildPieces(x, p, interpolation, lower, upper) {
   // numpy's c.sum(axis=0): ((c0 + c1) + c2) + c3
   const pr = new Array(m);
   for (let k = 0; k < m; k++) pr[k] = c[0][k] + c[1][k] + c[2][k] + c[3][k];
-  // the polynomial pieces meet the knots exactly at their right ends (_snap_right_ends)
-  const toOne = upperExp === null;
+  // the polynomial pieces meet the knots exactly at their right ends (_snap_right_ends):
+  // the knot there is the first knot past the piece's exact left end; a bounded upper
+  // tail (the last piece) ends at probability 1
   for (let k = 0; k < m; k++) {
-    const end = xa[k] + hh[k];
-    const idx = searchLeft(x, end);
+    const idx = searchRight(x, xa[k]);
     if (idx < n) pr[k] = p[idx];
-    if (toOne && k === m - 1 && end > x[n - 1]) pr[k] = 1.0;
   }
+  if (pn < 1 && upper.kind === "bounded") pr[m - 1] = 1.0;
   // exact right ends: the pieces are contiguous (xb[j] === xa[j + 1])
   const last = pn < 1 && upper.kind === "bounded" ? upper.limit : x[n - 1];
   const xb = [...xa.slice(1), last];

@@ -158,17 +158,17 @@ def test_w1_infinite_without_mean():
 # ---------------------------------------------------------------- CRPS
 def test_crps_closed_forms_gneiting_raftery():
     # Gneiting & Raftery 2007: N(0,1) at 0 → 2φ(0) - 1/√π = 0.2336950; U(0,1) at 0.5 → 1/12
-    assert crps(st.norm(), 0.0) == pytest.approx(0.2336950, abs=5e-8)
-    assert crps(st.uniform(), 0.5) == pytest.approx(1 / 12, rel=1e-12)
+    assert crps(0.0, st.norm()) == pytest.approx(0.2336950, abs=5e-8)
+    assert crps(0.5, st.uniform()) == pytest.approx(1 / 12, rel=1e-12)
     # the normal closed form σ[z(2Φ(z) - 1) + 2φ(z) - 1/√π] at several points
     mu, sig = 1.0, 2.5
     for y in (-7.0, 0.3, 1.0, 4.0, 12.0):
         z = (y - mu) / sig
         ref = sig * (z * (2 * st.norm.cdf(z) - 1) + 2 * st.norm.pdf(z) - 1 / math.sqrt(math.pi))
-        assert crps(st.norm(mu, sig), y) == pytest.approx(ref, rel=1e-9)
+        assert crps(y, st.norm(mu, sig)) == pytest.approx(ref, rel=1e-9)
     # the mean over several observations is the mean of the single scores
     ys = np.array([-1.0, 0.0, 2.5])
-    assert crps(st.norm(), ys) == pytest.approx(np.mean([crps(st.norm(), v) for v in ys]))
+    assert crps(ys, st.norm()) == pytest.approx(np.mean([crps(v, st.norm()) for v in ys]))
 
 
 def test_crps_finite_with_atoms_and_gaps():
@@ -178,7 +178,7 @@ def test_crps_finite_with_atoms_and_gaps():
     grid = np.linspace(-1, 5, 600001)
     f = (s.cdf(grid) - (grid >= y)) ** 2
     brute = float(np.sum((f[1:] + f[:-1]) / 2 * np.diff(grid)))
-    got = crps(s, y)
+    got = crps(y, s)
     assert math.isfinite(got)
     assert got == pytest.approx(brute, abs=2e-5)
 
@@ -334,4 +334,4 @@ def test_metric_bad_inputs():
     with pytest.raises(ValueError, match=r"weights\[0\]=-1.0"):
         wasserstein1([1.0, 2.0], d, weights=[-1.0, 2.0])
     with pytest.raises(TypeError, match=r"object with cdf\(\) and ppf\(\)"):
-        crps(object(), 0.0)
+        crps(0.0, object())

@@ -50,7 +50,7 @@ def sketches(draw):
 @settings(max_examples=200, deadline=None)
 def test_projection_valid_and_idempotent(xp):
     x, p = xp
-    assume(np.ptp(x) > 0)
+    assume(np.ptp(x) > 1e-90)  # positions closer than knots.MIN_SPACING merge
     x1, p1 = project_knots(x, p)
     check_knots(x1, p1)
     x2, p2 = project_knots(x1, p1)

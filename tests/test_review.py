@@ -98,9 +98,7 @@ def test_toggles_hide_marks_and_readout(board) -> None:
     board.toggles["gamma"].value = False
     assert board.cdf_lines["gamma"].visible is False
     assert board.pdf_lines["gamma"].visible is False
-    assert [r["name"] for r in board.readout_at(900.0)] == [
-        n for n in board.names if n != "gamma"
-    ]
+    assert [r["name"] for r in board.readout_at(900.0)] == [n for n in board.names if n != "gamma"]
     board.set_visible("resampled data", False)
     assert board.spikes["resampled data"].visible is False
     board.set_visible("gamma", True)
@@ -158,7 +156,9 @@ def test_choose_records_provenance(nile, board) -> None:
     assert len(spec["knots"]["x"]) == FIT_KNOTS
     assert spec["provenance"]["method"] == "from candidate fit gamma"
     loaded = cdfsketch.load(json.dumps(spec))
-    np.testing.assert_allclose(loaded.cdf([700, 900]), board.review.candidate("gamma").sketch.cdf([700, 900]))
+    np.testing.assert_allclose(
+        loaded.cdf([700, 900]), board.review.candidate("gamma").sketch.cdf([700, 900])
+    )
     # decisions are escaped in the widget
     assert "<script>" not in board.decision_view.value
 
@@ -258,7 +258,9 @@ def test_without_data() -> None:
 
 def test_bad_inputs_by_message(nile) -> None:
     a = Sketch([0, 4, 10], [0, 0.5, 1], name="a")
-    with pytest.raises(ValueError, match=r"candidates\[1\] and candidates\[0\] are both called 'a'"):
+    with pytest.raises(
+        ValueError, match=r"candidates\[1\] and candidates\[0\] are both called 'a'"
+    ):
         Review(None, [a, a.replace(x=[0, 5, 10])])
     with pytest.raises(ValueError, match=r"candidates\[0\] is a sketch without a name"):
         Review(None, [Sketch([0, 1], [0, 1])])

@@ -154,7 +154,7 @@ class TailControl:
             else:
                 self.kind.value = "exp-derived" if tail.scale is None else "exp-stated"
                 scale = sketch.tail_scales[i] if tail.scale is None else tail.scale
-                self.value.value = float(scale) if scale is not None else float("nan")
+                self.value.value = float(scale) if scale is not None else 0.0
                 self.label.value = "scale"
                 self.value.disabled = tail.scale is None
         finally:

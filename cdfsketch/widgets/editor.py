@@ -56,6 +56,10 @@ from ._editor_table import KnotTable, TailControl
 __all__ = ["Editor"]
 
 _GRID = 400
+#: room below p = 0 and above p = 1 in the CDF panel (a whole knot dot shows at 0 and 1)
+P_ROOM = 0.04
+#: the same left and right margins on both panels, so that they share x pixel for pixel
+_SIDE_MARGINS = {"left": 58, "right": 50}
 _EDITED = "edited in the cdfsketch Editor"
 _STYLE = """<style>
 .cdfsketch-editor .curve, .cdfsketch-editor .curve * { pointer-events: none; }
@@ -169,6 +173,7 @@ class Editor(w.VBox):
         self._writing = False
         self._undoing = False
         self._gesture: tuple[int, Sketch] | None = None
+        self._moved = False  # whether a drag message arrived since drag_start
         self._samples = 0
         self._readout: dict[str, Any] = {}
         self._domain = self._initial_domain(sketch)
@@ -199,24 +204,27 @@ class Editor(w.VBox):
         units = s.units
         xlabel = (s.name or "value") + (f" ({units})" if units else "")
         lo, hi = self._domain
-        self._xs = bq.LinearScale(min=lo, max=hi)
-        ys = bq.LinearScale(min=0.0, max=1.0)
+        # no mark padding on the position scales: both panels map x to the same pixels and
+        # the p room for a whole knot dot at 0 and 1 is in the domain (see "Scales" above)
+        self._xs = bq.LinearScale(min=lo, max=hi, allow_padding=False)
+        ys = bq.LinearScale(min=-P_ROOM, max=1.0 + P_ROOM, allow_padding=False)
+        self._ys = ys
         self._ds = bq.LinearScale(min=0.0)
         self._ms = bq.LinearScale(min=0.0, max=1.0)
         grid = {"stroke": "#e4e4e4"}
-        ax_x = bq.Axis(scale=self._xs, label=xlabel, grid_color="#e4e4e4", num_ticks=8)
+        ax_x = bq.Axis(scale=self._xs, label=xlabel, grid_color="#e4e4e4")
         ax_y = bq.Axis(
-            scale=ys, orientation="vertical", label="cumulative probability",
-            tick_format="0.1f", grid_color=grid["stroke"],
+            scale=ys, side="left", label="cumulative probability",
+            tick_format="0.1f", grid_color=grid["stroke"], tick_values=np.linspace(0, 1, 11),
         )  # fmt: skip
-        ax_x2 = bq.Axis(scale=self._xs, label=xlabel, grid_lines="none", num_ticks=8)
+        ax_x2 = bq.Axis(scale=self._xs, label=xlabel, grid_lines="none")
         per = f"per {units}" if units else "per unit"
         ax_d = bq.Axis(
-            scale=self._ds, orientation="vertical", label=f"density ({per})", grid_lines="none",
+            scale=self._ds, side="left", label=f"density ({per})", grid_lines="none",
             tick_format=".2g",
         )  # fmt: skip
         ax_m = bq.Axis(
-            scale=self._ms, orientation="vertical", side="right", label="atom mass",
+            scale=self._ms, side="right", label="atom mass",
             grid_lines="none", tick_format="0.2f", visible=False,
         )  # fmt: skip
         self._ax_m = ax_m
@@ -260,7 +268,7 @@ class Editor(w.VBox):
         )  # fmt: skip
         self._adder = bq.Scatter(
             x=np.empty(0), y=np.empty(0), scales=sc, interactions={"click": "add"},
-            colors=[palette.KNOT], default_opacities=[0.0],
+            colors=[palette.KNOT], opacities=[0.0],
         )  # fmt: skip
         marks_cdf += [self._candidate_line, self.cdf_line, self._adder, self.knots]
         self.pdf_line = bq.Lines(
@@ -283,13 +291,13 @@ class Editor(w.VBox):
         marks_pdf += [self._sample_line, self.pdf_line, self._atom_lines, self._atom_labels]
         self.cdf_figure = bq.Figure(
             marks=marks_cdf, axes=[ax_x, ax_y], title="CDF: drag the knots",
-            fig_margin={"top": 36, "bottom": 44, "left": 58, "right": 20},
+            fig_margin={"top": 36, "bottom": 44, **_SIDE_MARGINS},
             layout=w.Layout(width="640px", height="360px"), title_style={"font-size": "14px"},
             background_style={"fill": "white"}, animation_duration=0,
         )  # fmt: skip
         self.pdf_figure = bq.Figure(
             marks=marks_pdf, axes=[ax_x2, ax_d, ax_m], title="implied density",
-            fig_margin={"top": 30, "bottom": 44, "left": 58, "right": 50},
+            fig_margin={"top": 30, "bottom": 44, **_SIDE_MARGINS},
             layout=w.Layout(width="640px", height="230px"), title_style={"font-size": "13px"},
             animation_duration=0,
         )  # fmt: skip
@@ -552,6 +560,7 @@ class Editor(w.VBox):
     def _on_drag_start(self, _mark: Any, content: dict) -> None:
         i = int(content["index"])
         self._gesture = (i, self.sketch)
+        self._moved = False
 
     def _drag_target(self, content: dict) -> tuple[int, Sketch] | None:
         i = int(content["index"])
@@ -567,17 +576,22 @@ class Editor(w.VBox):
             return None
 
     def _on_drag(self, _mark: Any, content: dict) -> None:
+        self._moved = True
         target = self._drag_target(content)
         if target is not None:
             self.sketch = target[1]
 
     def _on_drag_end(self, _mark: Any, content: dict) -> None:
-        target = self._drag_target(content)
+        # a press and release without a move in between is a click (it selects the knot):
+        # the knot stays exactly where it is, not at the pixel-rounded pointer position
+        target = self._drag_target(content) if self._moved else None
         start = self._gesture[1] if self._gesture is not None else self.sketch
         self._gesture = None
+        self._moved = False
         final = start if target is None else target[1]
-        if target is not None:
-            self.selected = int(content["index"])
+        i = int(content["index"])
+        if 0 <= i < len(start):
+            self.selected = i
         if final != start:
             self._undo.append(start)
             self._redo.clear()

@@ -121,7 +121,7 @@ class ReviewBoard(widgets.VBox):
                     colors=[palette.DATA],
                     labels=["ECDF"],
                     display_legend=True,
-                )  # fmt: skip
+                )
             )
             e, d = layers["edges"], layers["density"]
             lower_marks.append(
@@ -134,7 +134,7 @@ class ReviewBoard(widgets.VBox):
                     fill_colors=[palette.DATA],
                     fill_opacities=[0.3],
                     labels=["data histogram"],
-                )  # fmt: skip
+                )
             )
         self.cdf_lines: dict[str, bqplot.Lines] = {}
         self.pdf_lines: dict[str, bqplot.Lines] = {}
@@ -167,9 +167,7 @@ class ReviewBoard(widgets.VBox):
         )
         lower_axes = [x_axis, bqplot.Axis(scale=y_pdf, side="left", label="density")]
         if masses:
-            lower_axes.append(
-                bqplot.Axis(scale=y_mass, side="right", label="atom mass")
-            )
+            lower_axes.append(bqplot.Axis(scale=y_mass, side="right", label="atom mass"))
         self.pdf_figure = bqplot.Figure(
             marks=lower_marks, axes=lower_axes, fig_margin=_FIG_MARGIN,
             layout={"width": "100%", "height": "260px"},

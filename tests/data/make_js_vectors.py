@@ -64,6 +64,12 @@ def _cases(rng: np.random.Generator) -> list[tuple[str, Sketch]]:
     lin, pch = "linear", "pchip"
     cases: list[tuple[str, Sketch]] = [
         ("linear three knots", Sketch([0, 10, 30], [0, 0.5, 1])),
+        # regressions: xa + h rounding past the next knot (found in review and by hypothesis)
+        ("rounded piece end", Sketch([-3.5, -1, 0.1, 0.3, 7], [0.1, 0.25, 0.5, 0.75, 0.9])),
+        (
+            "rounded last end before an atom",
+            Sketch([-248589.0, -248588.658, 275700.0, 275700.0], [2 / 3, 2 / 3, 2 / 3, 1.0]),
+        ),
         ("linear two knots", Sketch([-1.5, 2.25], [0, 1])),
         ("pchip two knots", Sketch([-1.5, 2.25], [0, 1], interpolation=pch)),
         ("pchip three knots", Sketch([0, 1, 4], [0, 0.7, 1], interpolation=pch)),

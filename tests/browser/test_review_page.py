@@ -1,0 +1,351 @@
+"""The saved review page in headless Debian Chromium (Playwright), opened from file://.
+
+No Jupyter is involved: ``Review.save_html`` writes the page, the browser
+opens it, and every check compares what the page shows with Python. Every
+request is routed: only the page's own file:// URL may load.
+
+Data: the Nile flows (statsmodels.datasets.nile, offline; n=100). Reference
+values for the fitted normal: scipy.stats.norm with the ML parameters.
+"""
+
+from __future__ import annotations
+
+import json
+import math
+import os
+import re
+import shutil
+from pathlib import Path
+from typing import Any
+
+import numpy as np
+import pytest
+
+import cdfsketch
+from cdfsketch import Sketch
+from cdfsketch.empirical import ECDF
+from cdfsketch.report import Review, _page_from_payload, page_payload
+
+pytestmark = pytest.mark.browser
+
+CHROMIUM = "/usr/bin/chromium"
+ARGS = [
+    "--no-sandbox",
+    "--disable-gpu",
+    "--disable-quic",
+    "--no-first-run",
+    "--disable-background-networking",
+    "--disable-component-update",
+    "--disable-sync",
+]
+HOSTILE = ["<img src=x onerror=alert(1)>", "</script><script>alert(1)</script>"]
+RATIONALE = "closest to the record & the experts <b>agree</b>\n" + HOSTILE[1]
+
+
+def _need_browser() -> Any:
+    """The Playwright sync API, or skip (fail in CI) with the reason."""
+    problem = None
+    try:
+        from playwright.sync_api import sync_playwright
+    except ImportError:
+        problem = "Playwright for Python is not installed (pip install playwright)"
+        sync_playwright = None
+    if problem is None and not (Path(CHROMIUM).exists() or shutil.which("chromium")):
+        problem = f"Debian Chromium is not installed at {CHROMIUM} (apt-get install chromium)"
+    if problem:
+        if os.environ.get("CI"):
+            pytest.fail(f"CI must run the browser tests: {problem}.")
+        pytest.skip(f"browser tests did not run: {problem}")
+    return sync_playwright
+
+
+@pytest.fixture(scope="module")
+def nile() -> np.ndarray:
+    sm = pytest.importorskip("statsmodels.api")
+    return sm.datasets.nile.load_pandas().data["volume"].to_numpy(dtype=float)
+
+
+@pytest.fixture(scope="module")
+def review(nile: np.ndarray) -> Review:
+    from cdfsketch.fit import fit_candidates
+
+    a = Sketch.from_quantiles({0.1: 650, 0.5: 880, 0.9: 1150}, name="expert A", lower=400)
+    b = Sketch.from_quantiles(
+        {0.05: 600, 0.5: 930, 0.95: 1250}, name=HOSTILE[0], interpolation="pchip"
+    )
+    pooled = cdfsketch.pool([a, b], name=HOSTILE[1])
+    fits = fit_candidates(
+        nile, families=["normal", "gamma", "lognormal", "weibull"], mixtures=[2], rng=0
+    )
+    r = Review(nile, [a, b, pooled, *fits, ECDF(nile)], units="1e8 m3", name="Nile flow", rng=0)
+    assert len(r.candidates) == 10
+    r.choose("normal", by=HOSTILE[0], rationale=RATIONALE)
+    return r
+
+
+@pytest.fixture(scope="module")
+def page_file(review: Review, tmp_path_factory: pytest.TempPathFactory) -> Path:
+    return review.save_html(tmp_path_factory.mktemp("page") / "review.html")
+
+
+@pytest.fixture(scope="module")
+def context(tmp_path_factory: pytest.TempPathFactory):
+    sync_playwright = _need_browser()
+    profile = tmp_path_factory.mktemp("chromium-profile")
+    with sync_playwright() as p:
+        ctx = p.chromium.launch_persistent_context(
+            str(profile),
+            executable_path=CHROMIUM,
+            headless=True,
+            args=ARGS,
+            accept_downloads=True,
+        )
+        try:
+            yield ctx
+        finally:
+            ctx.close()
+
+
+class Opened:
+    """A page opened from file:// with every request recorded and alerts caught."""
+
+    def __init__(self, context: Any, path: Path) -> None:
+        self.url = path.resolve().as_uri()
+        self.requests: list[str] = []
+        self.dialogs: list[str] = []
+        self.errors: list[str] = []
+        self.page = context.new_page()
+        self.page.route("**/*", self._route)
+        self.page.on("dialog", self._dialog)
+        self.page.on("pageerror", lambda exc: self.errors.append(str(exc)))
+        self.page.goto(self.url)
+        self.page.wait_for_function(
+            "() => performance.getEntriesByName('cdfsketch-review-drawn').length > 0",
+            timeout=10_000,
+        )
+
+    def _route(self, route: Any) -> None:
+        url = route.request.url
+        self.requests.append(url)
+        if url == self.url:
+            route.continue_()
+        else:
+            route.abort()
+
+    def _dialog(self, dialog: Any) -> None:
+        self.dialogs.append(dialog.message)
+        dialog.dismiss()
+
+    def check_clean(self) -> None:
+        assert self.requests == [self.url], f"the page requested {self.requests}"
+        assert self.dialogs == [], f"a dialog fired: {self.dialogs}"
+        assert self.errors == [], f"script errors: {self.errors}"
+
+    def close(self) -> None:
+        self.page.close()
+
+
+@pytest.fixture
+def opened(context, page_file):
+    o = Opened(context, page_file)
+    try:
+        yield o
+    finally:
+        o.close()
+
+
+def _vertices(d: str) -> np.ndarray:
+    return np.array([[float(a), float(b)] for a, b in re.findall(r"[ML](-?[\d.]+),(-?[\d.]+)", d)])
+
+
+def test_every_curve_drawn_fast_and_offline(opened: Opened, review: Review) -> None:
+    page = opened.page
+    n = len(review.candidates)
+    for i, c in enumerate(review.candidates):
+        cdf = page.locator(f'path.curve.cdf[data-candidate="{i}"]')
+        assert cdf.count() == 1, c.name
+        assert len(_vertices(cdf.get_attribute("d"))) > 100
+        assert cdf.is_visible()
+        pdf = page.locator(f'path.curve.pdf[data-candidate="{i}"]')
+        assert pdf.count() == (0 if c.kind == "data" else 1)
+    spikes = page.locator('line.spike[data-candidate="9"]')
+    assert spikes.count() == np.unique(review.data).size  # the resampled data's atoms
+    timing = page.evaluate(
+        """() => ({
+            drawn: performance.getEntriesByName('cdfsketch-review-drawn')[0].startTime,
+            load: performance.getEntriesByType('navigation')[0].loadEventEnd,
+        })"""
+    )
+    print(f"\n{n} candidates: drawn at {timing['drawn']:.0f} ms, load event end "
+          f"{timing['load']:.0f} ms after navigation start")  # fmt: skip
+    assert timing["drawn"] < 1000, timing  # issue 6: opens in under a second for 10 candidates
+    opened.check_clean()
+
+
+def test_drawn_curves_are_python_cdfs(opened: Opened, review: Review) -> None:
+    # Convert the drawn vertices back to data units and compare with Python's cdf of the
+    # same spec; the tolerance is the 0.01-px rounding of the path coordinates.
+    page = opened.page
+    svg = page.locator("#cdf-plot")
+    lo, hi = (float(v) for v in svg.get_attribute("data-x-domain").split())
+    left, right = (float(v) for v in svg.get_attribute("data-x-pixels").split())
+    bottom, top = (float(v) for v in svg.get_attribute("data-y-pixels").split())
+    assert [lo, hi] == page_payload(review)["xRange"]
+    assert svg.get_attribute("data-y-domain") == "0 1"
+    w = right - left
+    for i, c in enumerate(review.candidates):
+        v = _vertices(page.locator(f'path.curve.cdf[data-candidate="{i}"]').get_attribute("d"))
+        x = lo + (v[:, 0] - left) / w * (hi - lo)
+        y = (bottom - v[:, 1]) / (bottom - top)
+        # a monotone F under x rounding of at most dx: F(x - dx) ≤ y ≤ F(x + dx), y rounded too
+        dx = 1.01 * 0.005 / w * (hi - lo)
+        tol = 1.01 * 0.005 / (bottom - top) + 1e-12
+        below = c.sketch.cdf(np.nextafter(x - dx, -np.inf))
+        above = c.sketch.cdf(x + dx)
+        right_value = c.sketch.cdf(x)
+        ok = (below - tol <= y) & (y <= above + tol)
+        assert ok.all(), (c.name, x[~ok][:3], y[~ok][:3], right_value[~ok][:3])
+
+
+def test_toggle_hides_and_shows(opened: Opened, review: Review) -> None:
+    page = opened.page
+    i = review.names.index("gamma")
+    box = page.locator(f'#toggles input[data-candidate="{i}"]')
+    curve = page.locator(f'path.curve.cdf[data-candidate="{i}"]')
+    density = page.locator(f'path.curve.pdf[data-candidate="{i}"]')
+    row = page.locator(f'#readout tr[data-candidate="{i}"]')
+    assert curve.is_visible() and density.is_visible() and row.is_visible()
+    box.uncheck()
+    assert curve.is_hidden() and density.is_hidden() and row.is_hidden()
+    others = page.locator("path.curve.cdf:visible")
+    assert others.count() == len(review.candidates) - 1
+    box.check()
+    assert curve.is_visible() and density.is_visible()
+    opened.check_clean()
+
+
+@pytest.mark.parametrize("fraction", [0.3, 0.55])
+def test_hover_reads_python_values(opened: Opened, review: Review, fraction: float) -> None:
+    from scipy.stats import norm
+
+    page = opened.page
+    svg = page.locator("#cdf-plot")
+    box = svg.bounding_box()
+    assert box is not None
+    left, right = (float(v) for v in svg.get_attribute("data-x-pixels").split())
+    scale = box["width"] / 760  # the viewBox is 760 wide
+    px = box["x"] + (left + fraction * (right - left)) * scale
+    py = box["y"] + 150 * scale
+    page.mouse.move(px, py)
+    readout = page.locator("#readout")
+    x = float(readout.get_attribute("data-x"))
+    shown_x = page.locator("#readout .readout-x").text_content()
+    assert shown_x.startswith("x = ") and shown_x.endswith(" 1e8 m3")
+    assert float(shown_x[4:-7]) == pytest.approx(x, rel=5e-6)  # 6 significant digits
+    for i, c in enumerate(review.candidates):
+        tr = page.locator(f'#readout tr[data-candidate="{i}"]')
+        shown_p = float(tr.locator("td.p").text_content())
+        # shown to 4 decimals: within half a unit of the last digit of Python's cdf
+        assert abs(shown_p - float(c.sketch.cdf(x))) <= 0.5e-4 + 1e-12, c.name
+        if c.kind != "data":
+            shown_f = float(tr.locator("td.density").text_content())
+            assert shown_f == pytest.approx(float(c.sketch.pdf(x)), rel=5e-4, abs=1e-300)
+    # the fitted normal as drawn is within its stated approximation of the fit itself
+    # (reference: scipy.stats.norm with the ML parameters, mean and population sd)
+    i = review.names.index("normal")
+    ref = norm(review.data.mean(), review.data.std()).cdf(x)
+    stated = review.candidate("normal").sketch.provenance["extra"]["max_abs_cdf_error_vs_fit"]
+    shown = float(page.locator(f'#readout tr[data-candidate="{i}"] td.p').text_content())
+    assert abs(shown - ref) <= stated + 0.5e-4
+    opened.check_clean()
+
+
+def test_download_is_a_loadable_spec(opened: Opened, review: Review, tmp_path: Path) -> None:
+    page = opened.page
+    with page.expect_download() as info:
+        page.locator("#download-spec").click()
+    download = info.value
+    assert download.suggested_filename == "Nile-flow.spec.json"
+    target = tmp_path / download.suggested_filename
+    download.save_as(target)
+    spec = json.loads(target.read_text(encoding="utf-8"))
+    cdfsketch.validate_spec(spec)
+    sketch = cdfsketch.load(target.read_text(encoding="utf-8"))
+    assert spec["provenance"]["decision"]["chosen"] == "normal"
+    assert spec["provenance"]["decision"]["rationale"] == RATIONALE
+    grid = np.linspace(500, 1300, 9)
+    np.testing.assert_array_equal(sketch.cdf(grid), review.candidate("normal").sketch.cdf(grid))
+    opened.check_clean()
+
+
+def test_hostile_text_renders_as_text(opened: Opened, review: Review) -> None:
+    page = opened.page
+    names = page.locator("#toggles .candidate-name").all_text_contents()
+    assert names == list(review.names)
+    assert HOSTILE[0] in names and HOSTILE[1] in names
+    assert page.locator("#decision-by").text_content() == HOSTILE[0]
+    assert page.locator("#decision-rationale").text_content() == RATIONALE
+    assert (
+        page.evaluate("() => document.querySelectorAll('img, iframe, object, embed').length") == 0
+    )
+    assert page.evaluate("() => document.scripts.length") == 2
+    assert page.locator("#decision b").count() == 0
+    # the table cells hold the raw names as text
+    cells = page.locator('#comparison td[data-column="name"]').all_text_contents()
+    assert cells == list(review.names)
+    opened.check_clean()
+
+
+def test_table_sorts_by_clicked_column(opened: Opened, review: Review) -> None:
+    page = opened.page
+    page.locator('button.sort[data-column="ks"]').click()
+    shown = page.locator('#comparison td[data-column="name"]').all_text_contents()
+    expected = [r["name"] for r in review.table().sort_by("ks").rows]
+    assert shown == expected
+    page.locator('button.sort[data-column="ks"]').click()
+    shown = page.locator('#comparison td[data-column="name"]').all_text_contents()
+    expected = [r["name"] for r in review.table().sort_by("ks", ascending=False).rows]
+    assert shown == expected
+    # log_score holds -inf for the resampled data (written "-inf" in the JSON)
+    page.locator('button.sort[data-column="log_score"]').click()
+    shown = page.locator('#comparison td[data-column="name"]').all_text_contents()
+    assert shown == [r["name"] for r in review.table().sort_by("log_score").rows]
+    opened.check_clean()
+
+
+def test_malformed_spec_is_reported_as_text(context, review: Review, tmp_path: Path) -> None:
+    payload = page_payload(review)
+    bad = payload["candidates"][1]
+    bad["spec"]["knots"]["p"] = list(reversed(bad["spec"]["knots"]["p"]))
+    bad["spec"]["provenance"]["notes"] = HOSTILE[1]
+    path = tmp_path / "bad.html"
+    path.write_text(_page_from_payload(payload), encoding="utf-8")
+    o = Opened(context, path)
+    try:
+        problem = o.page.locator(".problem")
+        assert problem.count() == 1
+        assert problem.locator(".candidate-name").text_content() == HOSTILE[0]
+        assert "could not be read" in problem.text_content()
+        assert "non-decreasing" in problem.text_content()
+        assert o.page.locator("path.curve.cdf").count() == len(review.candidates) - 1
+        o.check_clean()
+    finally:
+        o.close()
+
+
+def test_include_data_lists_the_values(context, review: Review, tmp_path: Path) -> None:
+    path = review.save_html(tmp_path / "with-data.html", include_data=True)
+    o = Opened(context, path)
+    try:
+        text = o.page.locator("#raw-data pre").text_content()
+        values = [float(v) for v in text.split("\n")]
+        assert values == review.data.tolist()
+        assert o.page.locator("#data-n").text_content() == "100"
+        assert (
+            o.page.locator("#data-sha256").text_content()
+            == (cdfsketch.data_fingerprint(review.data)["sha256"])
+        )
+        o.check_clean()
+    finally:
+        o.close()
+    assert not math.isnan(values[0])

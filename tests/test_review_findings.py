@@ -1,0 +1,143 @@
+"""Regression tests for defects found in review (each names what it guards)."""
+
+from __future__ import annotations
+
+import json
+
+import numpy as np
+import pytest
+from scipy import stats
+
+from cdfsketch import BoundedTail, ExponentialTail, KnotError, Sketch, SpecError, load
+from cdfsketch.elicit import from_quantiles
+
+
+@pytest.mark.parametrize(
+    "sketch",
+    [
+        Sketch([0, 1], [0.5, 0.5]),
+        Sketch([0, 1, 2], [0.3, 0.3, 0.3]),
+        Sketch([0, 1], [0.5, 0.5], lower_tail=ExponentialTail(1.0)),
+    ],
+)
+def test_sampler_handles_a_body_without_mass(sketch):
+    draws = sketch.sample(1000, rng=1)
+    assert np.all(np.isfinite(draws))
+    np.testing.assert_array_equal(sketch.sampler().ppf([0.3, 0.5]), sketch.ppf([0.3, 0.5]))
+
+
+def test_table_ppf_at_the_body_start_matches_exact_ppf():
+    # generalized inverse at u == p[0] with a flat first piece: the first knot itself
+    s = Sketch(
+        [4, 5, 6, 7, 7],
+        [0.1, 0.1, 0.25, 0.25, 1],
+        lower_tail=ExponentialTail(2.0),
+        upper_tail=ExponentialTail(2.0),
+    )
+    assert s.sampler().ppf(0.1) == s.ppf(0.1) == 4.0
+    t = Sketch([0, 1, 3, 7], [0.5, 0.5, 0.75, 0.75], interpolation="pchip")
+    assert t.sampler().ppf(0.5) == t.ppf(0.5) == 0.0  # Sobol's second point is 0.5
+    rng = np.random.default_rng(0)
+    for _ in range(50):
+        x = np.cumsum(rng.uniform(0.5, 2, 6))
+        p = np.sort(rng.uniform(0, 1, 6).round(1))
+        if p[-1] == p[0]:
+            continue
+        for interp in ("linear", "pchip"):
+            k = Sketch(x, p, interpolation=interp)
+            np.testing.assert_allclose(k.sampler().ppf(k.p), k.ppf(k.p), rtol=0, atol=1e-9)
+
+
+def test_scipy_stats_exact_far_from_zero():
+    # reference: scipy.stats.uniform; the linear sketch through these knots is U(1e6-1, 1e6+1)
+    ref = stats.uniform(1e6 - 1, 2)
+    s = Sketch([1e6 - 1, 1e6, 1e6 + 1], [0, 0.5, 1])
+    m, v, sk, ku = s.to_scipy().stats("mvsk")
+    assert m == pytest.approx(ref.mean(), rel=1e-15)
+    assert v == pytest.approx(ref.var(), rel=1e-12)
+    assert sk == pytest.approx(0.0, abs=1e-9)
+    assert ku == pytest.approx(float(ref.stats("k")), rel=1e-9)
+    with pytest.raises(ValueError, match="letters"):
+        s.to_scipy().stats("mx")
+
+
+def test_default_tails_survive_a_spec_round_trip():
+    s = from_quantiles({0.05: 12, 0.5: 20, 0.95: 41})
+    t = load(s.to_json())
+    assert t.tails_given == s.tails_given == (False, False)
+    assert len(t.summary().warnings) == len(s.summary().warnings) > 0
+    stated = s.replace(upper_tail=ExponentialTail(5.0))
+    assert load(stated.to_json()).tails_given == (False, True)
+
+
+def test_unstated_bounded_tail_is_refused():
+    spec = Sketch([0, 1], [0.1, 1], lower_tail=BoundedTail(-1.0)).to_spec()
+    spec["tails"]["lower"]["stated"] = False
+    with pytest.raises(SpecError, match="only the default tail"):
+        load(spec)
+
+
+def test_table_never_crosses_below_an_atom_or_the_support():
+    s = Sketch([0, 0, 1, 1], [0, 0.3, 0.6, 1])  # zero-inflated, support [0, 1]
+    u = np.r_[np.nextafter(0.3, 1), np.nextafter(0.6, 0), np.linspace(0, 1, 10001)]
+    x = s.sampler().ppf(u)
+    assert np.all((x >= 0) & (x <= 1))
+    assert np.all(x[u < 0.6] < 1)
+
+
+def test_bounded_limit_inside_the_knots_is_refused_even_without_mass():
+    with pytest.raises(KnotError, match="limit below the first knot"):
+        Sketch([0, 1], [0, 1], lower_tail=BoundedTail(5.0))
+    # a limit on the end knot is fine while the tail is empty, and a drag keeps it empty
+    s = Sketch([0, 1], [0, 1], lower_tail=BoundedTail(0.0))
+    assert s.move_knot(0, p=0.2).p[0] == 0.0
+
+
+def test_isf_exact_deep_in_the_upper_tail():
+    # reference: the tail is 0.1 * Exp(scale) beyond x = 1: isf(q) = 1 + scale log(0.1 / q)
+    s = Sketch([0, 1], [0, 0.9])
+    scale = s.tail_scales[1]
+    q = np.array([1e-12, 1e-17, 1e-300])
+    np.testing.assert_allclose(s.isf(q), 1 + scale * np.log(0.1 / q), rtol=1e-14)
+    np.testing.assert_allclose(s.to_scipy().isf(q), s.isf(q), rtol=0)
+
+
+def test_huge_integer_in_a_spec_is_a_spec_error():
+    spec = Sketch([0, 1], [0, 1]).to_spec()
+    text = json.dumps(spec).replace('"x": [0.0, 1.0]', '"x": [0, 1' + "0" * 400 + "]")
+    with pytest.raises(SpecError, match="too large"):
+        load(text)
+
+
+def test_knot_magnitudes_are_kept_moderate():
+    with pytest.raises(KnotError, match="larger units"):
+        Sketch([0, 1e101], [0, 1])
+    with pytest.raises(KnotError, match="smaller units"):
+        Sketch([0, 1e-120, 1], [0, 0.5, 1])
+
+
+def test_long_names_are_refused_by_load_and_validate_alike():
+    from cdfsketch import validate_spec
+
+    spec = Sketch([0, 1], [0, 1]).to_spec()
+    spec["name"] = "n" * 501
+    with pytest.raises(SpecError, match="at most 500"):
+        load(spec)
+    with pytest.raises(SpecError):
+        validate_spec(spec)
+
+
+def test_provenance_checked_when_the_sketch_is_made():
+    with pytest.raises(SpecError, match="Unknown key 'autor'"):
+        Sketch([0, 1], [0, 1], provenance={"autor": "x"})
+    with pytest.raises(SpecError, match="plain JSON"):
+        Sketch([0, 1], [0, 1], provenance={"extra": {"v": float("nan")}})
+
+
+def test_piece_ends_are_the_knots_probabilities_even_when_xa_plus_h_rounds_up():
+    # -248588.658 + 524288.658 rounds to 275700.00000000006 > x[-1]; the last piece must
+    # still end at p = 2/3 (then the atom), not at 1 (found by hypothesis)
+    s = Sketch([-248589.0, -248588.658, 275700.0, 275700.0], [2 / 3, 2 / 3, 2 / 3, 1.0])
+    assert s._pieces.pr.tolist() == [2 / 3, 2 / 3]
+    assert s.cdf(275699.0) == 2 / 3 and s.cdf(275700.0) == 1.0
+    assert s.sample(100, rng=1).max() == 275700.0
