@@ -497,6 +497,25 @@ _COLUMN_NOTES = {
 }
 
 
+def format_cell(v: Any) -> str:
+    """A table cell as text: 6 significant digits, ``inf``/``-inf``, blank for missing.
+
+    Examples
+    --------
+    >>> format_cell(0.123456789), format_cell(float("-inf")), format_cell(None)
+    ('0.123457', '-inf', '')
+    """
+    if v is None:
+        return ""
+    if isinstance(v, float):
+        if math.isnan(v):
+            return ""
+        if math.isinf(v):
+            return "inf" if v > 0 else "-inf"
+        return f"{v:.6g}"
+    return str(v)
+
+
 class ComparisonTable:
     """Rows of metrics, one per candidate; renders as HTML in a notebook.
 
@@ -556,20 +575,9 @@ class ComparisonTable:
         have.sort(key=lambda r: r[column], reverse=not ascending)
         return ComparisonTable(have + rest, columns=self.columns, info=self.info)
 
-    @staticmethod
-    def _fmt(v: Any) -> str:
-        if v is None:
-            return ""
-        if isinstance(v, float):
-            if math.isnan(v):
-                return ""
-            if math.isinf(v):
-                return "inf" if v > 0 else "-inf"
-            return f"{v:.6g}"
-        return str(v)
-
     def __repr__(self) -> str:
-        cells = [list(self.columns)] + [[self._fmt(r[c]) for c in self.columns] for r in self.rows]
+        body = [[format_cell(r[c]) for c in self.columns] for r in self.rows]
+        cells = [list(self.columns), *body]
         widths = [max(len(row[j]) for row in cells) for j in range(len(self.columns))]
         lines = ["  ".join(s.ljust(wd) for s, wd in zip(row, widths, strict=True)) for row in cells]
         return "\n".join(lines)
@@ -581,7 +589,7 @@ class ComparisonTable:
         )
         body = "".join(
             "<tr>"
-            + "".join(f"<td>{html.escape(self._fmt(r[c]))}</td>" for c in self.columns)
+            + "".join(f"<td>{html.escape(format_cell(r[c]))}</td>" for c in self.columns)
             + "</tr>"
             for r in self.rows
         )
@@ -613,7 +621,7 @@ class ComparisonTable:
             for r in self.rows:
                 out.writerow(
                     [
-                        self._fmt(r[c])
+                        format_cell(r[c])
                         if isinstance(r[c], float)
                         else ("" if r[c] is None else r[c])
                         for c in self.columns

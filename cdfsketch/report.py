@@ -561,22 +561,14 @@ def density_top(review: Review, cs: list[Curve], layers: dict[str, Any] | None) 
 
 
 # ====================================================================== table html
-def _fmt(v: Any) -> str:
-    if v is None:
-        return ""
-    if isinstance(v, float):
-        if math.isnan(v):
-            return ""
-        if math.isinf(v):
-            return "inf" if v > 0 else "-inf"
-        return f"{v:.6g}"
-    return str(v)
 
 
 def table_html(
     table: Any, *, chosen: str | None = None, sort_by: str | None = None, ascending: bool = True
 ) -> str:
     """The comparison table as escaped HTML, the chosen row marked, optionally sorted."""
+    from .metrics import format_cell
+
     if sort_by is not None:
         table = table.sort_by(sort_by, ascending=ascending)
     head = "".join(
@@ -586,7 +578,7 @@ def table_html(
     rows = []
     for r in table.rows:
         mark = ' style="font-weight:bold;background:#e8f0f8"' if r["name"] == chosen else ""
-        cells = "".join(f"<td>{html.escape(_fmt(r[c]))}</td>" for c in table.columns)
+        cells = "".join(f"<td>{html.escape(format_cell(r[c]))}</td>" for c in table.columns)
         rows.append(f"<tr{mark}>{cells}</tr>")
     info = ", ".join(f"{html.escape(str(k))}={html.escape(str(v))}" for k, v in table.info.items())
     return (
