@@ -335,7 +335,15 @@ def invert_pieces(pc: Pieces, j: np.ndarray, u: np.ndarray) -> np.ndarray:
     t = np.empty(u.shape)
     lin = (c[2] == 0) & (c[3] == 0)
     t[lin] = (u[lin] - c[0, lin]) / c[1, lin]
-    cub = ~lin
+    # quadratic pieces (taper tails): the root in its cancellation-free form
+    quad = (c[3] == 0) & ~lin
+    if quad.any():
+        r = u[quad] - c[0, quad]
+        c1, c2 = c[1, quad], c[2, quad]
+        den = c1 + np.sqrt(np.maximum(c1 * c1 + 4.0 * c2 * r, 0.0))
+        with np.errstate(divide="ignore", invalid="ignore"):
+            t[quad] = np.where(den > 0, 2.0 * r / den, 0.0)
+    cub = ~(lin | quad)
     if cub.any():
         t[cub] = _solve_monotone_cubic(c[:, cub], u[cub])
     t = np.clip(t, 0.0, 1.0)

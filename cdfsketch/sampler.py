@@ -98,18 +98,21 @@ class Sampler:
                 "1e-11 keeps the u-error below the documented 1e-10."
             )
         pc = sketch._pieces  # the package's own value; no copy needed
-        ul, ur, coef = _body_intervals(pc, float(u_tolerance))
+        tol = float(u_tolerance)
+        carries = pc.pr > pc.pl
+        cells = _cell_count(int(np.sum(pc.nonlinear() & carries)), int(np.sum(carries)))
+        self._cells = cells
+        self._a, self._b, self._c, self._d = _cell_tables(pc, cells, tol)
+        self._cubic = bool(np.any(self._c != 0) or np.any(self._d != 0))
+        self.n_slow_cells = int(np.isnan(self._a[:cells]).sum())
+        # the slow path: exact or adaptive intervals over the slow cells only
+        ul, ur, coef = _body_intervals(pc, tol, _slow_ranges(self._a, cells))
         self._ul, self._ur = ul, ur
         self._ia, self._ib, self._ic, self._id = coef
-        self._cubic = bool(np.any(coef[2] != 0) or np.any(coef[3] != 0))
+        self.n_intervals = int(ul.size)
         self._lower, self._upper = pc.lower, pc.upper
         self._p_low, self._p_high = pc.p_low, pc.p_high
         self._support = _pieces.support(pc)
-        self.n_intervals = int(ul.size)
-        cells = _cell_count(pc, self._cubic)
-        self._cells = cells
-        self._a, self._b, self._c, self._d = _cell_tables(pc, cells, float(u_tolerance))
-        self.n_slow_cells = int(np.isnan(self._a).sum())
 
     # ------------------------------------------------------------ evaluation
     def _transform(self, u: np.ndarray, out: np.ndarray, work: dict[str, np.ndarray]) -> None:
@@ -240,39 +243,78 @@ class Sampler:
 
 
 def _body_intervals(
-    pc: _pieces.Pieces, tol: float
+    pc: _pieces.Pieces, tol: float, keep: np.ndarray | None = None
 ) -> tuple[np.ndarray, np.ndarray, tuple[np.ndarray, ...]]:
-    """Intervals ``(ul, ur]`` covering ``(p_low, p_high]`` and their coefficients."""
-    rows: list[tuple[np.ndarray, ...]] = []  # (ul, ur, a, b, c, d) blocks, in u order
+    """Intervals ``(ul, ur]`` covering the body, or only its parts inside ``keep``.
 
-    def const(lo: float, hi: float, x: float) -> None:
-        if hi > lo:
-            rows.append(tuple(np.array([v]) for v in (lo, hi, x, 0.0, 0.0, 0.0)))
-
-    npieces = pc.xa.size
-    atom_before = np.r_[pc.p_low, pc.pr[:-1]]
-    cubic = pc.nonlinear()
-    for j in range(npieces):
-        const(float(atom_before[j]), float(pc.pl[j]), float(pc.xa[j]))
-        lo, hi = float(pc.pl[j]), float(pc.pr[j])
-        if not hi > lo:
-            continue
-        if cubic[j]:
-            rows.append(_cubic_intervals(pc, j, lo, hi, tol))
-        else:
-            with np.errstate(over="ignore", divide="ignore"):
-                b = pc.h[j] / pc.c[1, j]
-            if not np.isfinite(b):  # a piece holding ~1e-300 of mass: its left end
-                b = 0.0
-            rows.append(tuple(np.array([v]) for v in (lo, hi, pc.xa[j], b, 0.0, 0.0)))
-    const(float(pc.pr[-1]), pc.p_high, pc.x_end)
-    if not rows:  # all mass in the tails: one empty interval keeps the tables well formed
-        rows.append(tuple(np.array([v]) for v in (pc.p_low, pc.p_high, pc.x_start, 0, 0, 0)))
-    cols = [np.concatenate([r[i] for r in rows]) for i in range(6)]
-    ul, ur = cols[0], cols[1]
-    ur[-1] = pc.p_high
+    ``keep`` holds sorted, disjoint ``[lo, hi]`` ranges of ``u`` (the slow
+    cells); ``None`` covers the whole body ``(p_low, p_high]``.
+    """
+    rul, rur, kind, which = _regions(pc)
+    parts = [  # (lo, hi, kind, index) for every covered stretch
+        (lo, hi, k, w)
+        for r_lo, r_hi, k, w in zip(rul, rur, kind, which, strict=True)
+        if k != 0  # exponential tails are inverted in closed form
+        for lo, hi in _overlaps(float(r_lo), float(r_hi), keep)
+    ]
+    lo, hi, k, w = (
+        (np.array(col) for col in zip(*parts, strict=True))
+        if parts
+        else (np.array([pc.p_low]), np.array([pc.p_high]), np.array([1]), np.array([0]))
+    )
+    w = w.astype(np.intp)
+    zeros = np.zeros(lo.size)
+    a = np.r_[pc.xa, pc.x_end][np.where(k == 1, w, 0)]  # atoms: constant x
+    b = zeros.copy()
+    lin = np.flatnonzero(k == 2)
+    if lin.size:
+        with np.errstate(over="ignore", divide="ignore"):
+            slope = pc.h[w[lin]] / pc.c[1, w[lin]]
+        b[lin] = np.where(np.isfinite(slope), slope, 0.0)  # ~1e-300 of mass: its left end
+        a[lin] = _pieces.invert_pieces(pc, w[lin], lo[lin])
+    simple = k != 3
+    blocks = [
+        np.vstack([lo[simple], hi[simple], a[simple], b[simple], zeros[simple], zeros[simple]])
+    ]
+    cub = np.flatnonzero(k == 3)
+    if cub.size:
+        blocks.append(np.vstack(_cubic_intervals(pc, w[cub], lo[cub], hi[cub], tol)))
+    block = np.concatenate(blocks, axis=1)
+    block = block[:, np.argsort(block[0], kind="stable")]
+    cols = [block[i].copy() for i in range(6)]
     _keep_below_atoms(*cols)
-    return ul, ur, tuple(cols[2:])
+    return cols[0], cols[1], tuple(cols[2:])
+
+
+def _overlaps(lo: float, hi: float, keep: np.ndarray | None) -> list[tuple[float, float]]:
+    """The parts of ``(lo, hi]`` inside the ranges ``keep`` (all of it when ``None``)."""
+    if keep is None:
+        return [(lo, hi)]
+    first = int(np.searchsorted(keep[:, 1], lo, side="left"))
+    out = []
+    for k_lo, k_hi in keep[first:]:
+        if k_lo >= hi:
+            break
+        a, b = max(lo, float(k_lo)), min(hi, float(k_hi))
+        if b > a:
+            out.append((a, b))
+    return out
+
+
+def _slow_ranges(a: np.ndarray, cells: int) -> np.ndarray:
+    """Merged ``[lo, hi]`` ranges of ``u`` that cover the slow (NaN) cells.
+
+    Each range reaches one cell further down: ``u`` at a cell's left edge may
+    belong to the interval that ends there (intervals are right-closed).
+    """
+    slow = np.flatnonzero(np.isnan(a[:cells]))
+    slow = np.unique(np.r_[slow, np.maximum(slow - 1, 0)])
+    if slow.size == 0:
+        return np.empty((0, 2))
+    breaks = np.flatnonzero(np.diff(slow) > 1)
+    starts = np.r_[slow[0], slow[breaks + 1]]
+    stops = np.r_[slow[breaks], slow[-1]] + 1
+    return np.column_stack([starts / cells, np.minimum(stops / cells, 1.0)])
 
 
 def _keep_below_atoms(ul, ur, a, b, c, d) -> None:
@@ -296,51 +338,42 @@ def _keep_below_atoms(ul, ur, a, b, c, d) -> None:
 
 
 def _cubic_intervals(
-    pc: _pieces.Pieces, j: int, lo: float, hi: float, tol: float
+    pc: _pieces.Pieces, j: np.ndarray, lo: np.ndarray, hi: np.ndarray, tol: float
 ) -> tuple[np.ndarray, ...]:
-    """Adaptive cubic interpolation of the inverse of cubic piece ``j`` on ``(lo, hi]``."""
-    edges = np.linspace(lo, hi, 9)
-    todo_l, todo_r = edges[:-1], edges[1:]
-    todo_r[-1] = hi
+    """Adaptive cubic interpolation of the inverse on ranges ``(lo, hi]`` of cubic pieces ``j``.
+
+    Each range starts as 8 equal intervals; an interval that fails the checks
+    of :func:`_fit_inverse_cubics` is halved, all ranges at once.
+    """
+    parts = 8
+    todo_j = np.repeat(j, parts)
+    todo_l = (lo[:, None] + (hi - lo)[:, None] * (np.arange(parts) / parts)[None, :]).ravel()
+    todo_r = np.r_[todo_l[1:], 0.0]
+    todo_r[parts - 1 :: parts] = hi
     done: list[np.ndarray] = []
+    count = 0
     while todo_l.size:
-        if sum(d.shape[1] for d in done) + todo_l.size > _MAX_INTERVALS:
+        count += todo_l.size
+        if count > _MAX_INTERVALS:
             raise RuntimeError(
-                "The sampler needed more than 200,000 intervals for one cubic piece; the "
+                "The sampler needed more than 200,000 intervals for the cubic pieces; the "
                 "sketch may have a nearly vertical stretch. Use interpolation='linear' there."
             )
         w = todo_r - todo_l
-        u_nodes = todo_l[:, None] + w[:, None] * _FIT_TAU[None, :]
-        u_nodes[:, -1] = todo_r
-        jj = np.full(u_nodes.shape, j)
-        x_nodes = _pieces.invert_pieces(pc, jj.ravel(), u_nodes.ravel()).reshape(u_nodes.shape)
-        # fit x - x(ul): small numbers, so rounding of large x does not pollute the fit
-        x0 = x_nodes[:, :1]
-        tau_coef = (x_nodes - x0) @ _FIT_INV.T  # coefficients in tau, per interval
-        u_test = todo_l[:, None] + w[:, None] * _TEST_TAU[None, :]
-        rel_test = _eval_tau(tau_coef, _TEST_TAU)
-        x_test = x0 + rel_test
-        t = np.clip((x_test - pc.xa[j]) / pc.h[j], 0.0, 1.0)
-        err = np.abs(_pieces.poly(pc.c[:, j, None, None], t) - u_test).max(axis=1)
-        # u cannot be resolved finer than the density times the spacing of x there
-        dens = _pieces.dpoly(pc.c[:, j, None, None], t) / pc.h[j]
-        floor = 4 * (dens * np.spacing(np.abs(x_test))).max(axis=1)
-        path = np.concatenate([np.zeros_like(x0), rel_test, x_nodes[:, -1:] - x0], axis=1)
-        monotone = np.all(np.diff(path, axis=1) >= 0, axis=1)
-        ok = (err <= tol + floor) & monotone
+        tau_coef, ok = _fit_inverse_cubics(pc, todo_j, todo_l, todo_r, tol)
         ok |= w <= 4 * np.spacing(np.maximum(np.abs(todo_r), 1e-300))
         with np.errstate(over="ignore", divide="ignore", invalid="ignore"):
             scale = np.array([np.ones_like(w), 1 / w, 1 / w**2, 1 / w**3])
-            s_coef = tau_coef[ok].T * scale[:, ok]
+            # x(u) = a + s (b + s (c + s d)) with s = u - ul: coefficients in s, not tau
+            s_coef = np.vstack([tau_coef[:1, ok], tau_coef[1:, ok] * scale[1:, ok]])
         # intervals too narrow for their coefficients to be represented: constant
         flat = ~np.all(np.isfinite(s_coef), axis=0)
-        s_coef[:, flat] = 0.0
-        s_coef[0] += x0[ok, 0]
+        s_coef[1:, flat] = 0.0
         done.append(np.vstack([todo_l[ok], todo_r[ok], s_coef]))
         mid = 0.5 * (todo_l[~ok] + todo_r[~ok])
+        todo_j = np.r_[todo_j[~ok], todo_j[~ok]]
         todo_l, todo_r = np.r_[todo_l[~ok], mid], np.r_[mid, todo_r[~ok]]
     block = np.concatenate(done, axis=1)
-    block = block[:, np.argsort(block[0], kind="stable")]
     return tuple(block[i].copy() for i in range(6))
 
 
@@ -350,12 +383,16 @@ def _eval_tau(coef: np.ndarray, tau: np.ndarray) -> np.ndarray:
     return a + tau * (b + tau * (c + tau * d))
 
 
-def _cell_count(pc: _pieces.Pieces, cubic: bool) -> int:
-    """Cells ``M`` of the uniform grid: a power of two, so ``u M`` is exact."""
-    if cubic:
-        return 1 << 14
-    regions = pc.xa.size + pc.atom_x.size + 2
-    return 1 << min(16, max(12, math.ceil(math.log2(32 * regions))))
+def _cell_count(cubic_pieces: int, pieces: int) -> int:
+    """Cells ``M`` of the uniform grid: a power of two, so ``u M`` is exact.
+
+    About 512 cells per monotone cubic piece (4096 to 16384), or 32 per piece
+    otherwise (4096 to 65536): enough that few cells hold a breakpoint or
+    fail the accuracy test, few enough to compile in milliseconds.
+    """
+    if cubic_pieces:
+        return 1 << min(14, max(12, math.ceil(math.log2(512 * cubic_pieces))))
+    return 1 << min(16, max(12, math.ceil(math.log2(32 * (pieces + 2)))))
 
 
 def _regions(pc: _pieces.Pieces) -> tuple[np.ndarray, ...]:

@@ -708,8 +708,16 @@ function invertPiece(pc, j, u) {
   const c2 = c[2][j];
   const c3 = c[3][j];
   let t;
-  if (c2 === 0 && c3 === 0) t = (u - c0) / c1;
-  else t = solveMonotoneCubic(c0, c1, c2, c3, u);
+  if (c2 === 0 && c3 === 0) {
+    t = (u - c0) / c1;
+  } else if (c3 === 0) {
+    // quadratic pieces (taper tails): the root in its cancellation-free form (as _pieces.py)
+    const r = u - c0;
+    const den = c1 + Math.sqrt(Math.max(c1 * c1 + 4.0 * c2 * r, 0.0));
+    t = den > 0 ? (2.0 * r) / den : 0.0;
+  } else {
+    t = solveMonotoneCubic(c0, c1, c2, c3, u);
+  }
   t = Math.min(Math.max(t, 0.0), 1.0);
   return Math.min(pc.xa[j] + pc.h[j] * t, pc.xb[j]);
 }
