@@ -569,7 +569,7 @@ def from_distribution(
     * ``tail="exponential"``: ``ExponentialTail(scale=t / pdf(x_outer))``, an
       exponential continuing the source's density (the sketch's own density
       if ``dist`` has no ``pdf``);
-    * ``tail="bounded"``: ``BoundedTail(dist.ppf(t / 1000), "taper")``, the
+    * ``tail="bounded"``: ``BoundedTail(dist.ppf(t / 1000), density="taper")``, the
       sketch ends where the source leaves a thousandth of that mass.
 
     Either way the error beyond the outer knot is at most ``t``.
@@ -631,7 +631,7 @@ def from_distribution(
         if tail == "bounded":
             far = mass / 1000.0
             limit = float(quantile(np.array([far if i == 0 else 1.0 - far]))[0])
-            tails[i] = BoundedTail(limit, "taper")
+            tails[i] = BoundedTail(limit, density="taper")
         else:
             f = _density_at(dist, x_out)
             tails[i] = ExponentialTail(mass / f) if f else ExponentialTail()

@@ -340,7 +340,7 @@ def _tail_from_spec(
         density = obj.get("density")
         if density not in ("uniform", "taper"):
             raise SpecError(f"{where}.density must be 'uniform' or 'taper'; found {density!r}.")
-        return BoundedTail(_number(obj.get("limit"), f"{where}.limit"), density), None
+        return BoundedTail(_number(obj.get("limit"), f"{where}.limit"), density=density), None
     if kind == "exponential":
         _check_keys(obj, ("kind", "scale", "scale_rule", "stated"), where)
         rule = obj.get("scale_rule")

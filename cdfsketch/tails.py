@@ -19,7 +19,7 @@ an outer knot off 0 or 1 always has a defined tail.
 from __future__ import annotations
 
 import math
-from dataclasses import dataclass
+from dataclasses import dataclass, field
 from typing import Literal
 
 __all__ = ["BoundedTail", "ExponentialTail", "Tail", "as_tail"]
@@ -46,7 +46,7 @@ class BoundedTail:
     """
 
     limit: float
-    density: Literal["uniform", "taper"] = "uniform"
+    density: Literal["uniform", "taper"] = field(default="uniform", kw_only=True)
 
     def __post_init__(self) -> None:
         try:

@@ -21,7 +21,7 @@ def zoo() -> list[Sketch]:
             [0, 1, 1, 4, 6],
             [0.1, 0.3, 0.5, 0.5, 0.95],
             interpolation="pchip",
-            upper_tail=BoundedTail(9.0, "taper"),
+            upper_tail=BoundedTail(9.0, density="taper"),
         ),
         Sketch(
             [2, 3, 5],
@@ -33,7 +33,7 @@ def zoo() -> list[Sketch]:
             [2, 3, 5],
             [0.2, 0.6, 0.8],
             interpolation="pchip",
-            lower_tail=BoundedTail(1.0, "taper"),
+            lower_tail=BoundedTail(1.0, density="taper"),
             upper_tail=BoundedTail(7.0),
         ),
         Sketch([1e6, 1e6 + 1, 1e6 + 3, 1e6 + 10], [0, 0.2, 0.9, 1], interpolation="pchip"),

@@ -8,7 +8,7 @@ import scipy.stats as st
 from hypothesis import given, settings
 from hypothesis import strategies as hs
 
-from cdfsketch import BoundedTail, Sketch, data_fingerprint, load
+from cdfsketch import BoundedTail, Sketch, autoknots, data_fingerprint, load
 from cdfsketch.autoknots import from_data
 from cdfsketch.empirical import ECDF, DataError
 
@@ -174,3 +174,58 @@ def test_bad_options(kwargs, match):
 def test_bad_data(data, match):
     with pytest.raises(DataError, match=match):
         from_data(data)
+
+
+def _exact_excursion(data: np.ndarray, sketch, level: float) -> float:
+    """Excursion from the DKW band, straight from the definitions on every data value.
+
+    F_n(t) = #{x_i <= t} / n (the textbook ECDF) at and just below every distinct value;
+    eps = sqrt(ln(2 / alpha) / (2 n)) (Massart 1990, Ann. Probab. 18:1269, tight constant).
+    """
+    xs = np.sort(data)
+    n = xs.size
+    eps = np.sqrt(np.log(2 / (1 - level)) / (2 * n))
+    u = np.unique(xs)
+    f = np.searchsorted(xs, u, side="right") / n
+    f_left = np.searchsorted(xs, u, side="left") / n
+    g = sketch.cdf(u)
+    g_left = sketch.cdf(np.nextafter(u, -np.inf))
+    return float(
+        max(np.max(np.maximum(f - eps, 0) - g), np.max(g_left - np.minimum(f_left + eps, 1)))
+    )
+
+
+@pytest.mark.parametrize("interp", ["linear", "pchip"])
+@pytest.mark.parametrize("kind", ["lognormal", "ties"])
+def test_large_samples_use_the_outline_and_stay_inside_the_exact_band(kind, interp):
+    rng = np.random.default_rng(21)
+    n = 250_000
+    if kind == "lognormal":
+        x = rng.lognormal(0.0, 1.0, n)
+    else:  # many distinct values and one tie heavier than the band's width (an atom)
+        x = np.r_[rng.normal(0, 1, n), np.full(4000, 0.25)]
+    assert np.unique(x).size > autoknots.DECIMATE_ABOVE
+    s = from_data(x, interpolation=interp)
+    extra = s.provenance["extra"]
+    eps = extra["eps"]
+    assert 0 < extra["outline_tolerance"] < eps / 16  # decimated, with the stated tolerance
+    assert extra["max_excursion"] <= 0
+    exact = _exact_excursion(x, s, 0.95)
+    assert exact <= 0  # inside the exact band on the full data
+    assert exact <= extra["max_excursion"] + 1e-12  # the stored value is an upper bound
+    if kind == "ties":
+        assert any(a.x == 0.25 for a in s.atoms)
+
+
+def test_outline_path_needs_about_as_many_knots_as_the_exact_path(monkeypatch):
+    x = np.random.default_rng(5).gamma(3.0, 2.0, 60_000)
+    exact = from_data(x)
+    monkeypatch.setattr(autoknots, "DECIMATE_ABOVE", 1000)
+    fast = from_data(x)
+    assert fast.provenance["extra"]["outline_tolerance"] > 0
+    assert exact.provenance["extra"]["outline_tolerance"] == 0
+    assert _exact_excursion(x, fast, 0.95) <= 0
+    # a band narrower by < eps/16 on one side: a few knots more at most (common practice,
+    # no source; the greedy fit is not minimal, so the outline's fewer windows can even
+    # give fewer knots)
+    assert len(fast) <= len(exact) + 3

@@ -150,13 +150,35 @@ def test_interpolation_add_remove_reset(five):
     assert len(ed.sketch) == 6 and ed.sketch.x[2] == 3.5 and ed.selected == 2
     ed.remove_selected()
     assert len(ed.sketch) == 5
-    # a click on the canvas arrives as a point appended to the (invisible) adder scatter
-    synced(ed._adder, x=[7.0], y=[0.8])
-    assert 7.0 in ed.sketch.x.tolist() and ed._adder.x.size == 0
+    # a click on the canvas arrives as the pointer's point appended to the knots (bqplot's
+    # "add" click interaction); the kernel inserts it in order and rewrites the scatter
+    s = ed.sketch
+    synced(ed.knots, x=np.r_[s.x, 7.0], y=np.r_[s.p, 0.8])
+    assert ed.sketch.x.tolist() == [0, 2, 5, 7, 9, 14] and ed.sketch.p[3] == 0.8
+    assert ed.selected == 3
+    np.testing.assert_array_equal(ed.knots.x, ed.sketch.x)
+    np.testing.assert_array_equal(ed.knots.y, ed.sketch.p)
+    # p below the left neighbour's is clamped up to it (Sketch.with_knot)
+    synced(ed.knots, x=np.r_[ed.sketch.x, 8.0], y=np.r_[ed.sketch.p, 0.5])
+    assert ed.sketch.x[4] == 8.0 and ed.sketch.p[4] == 0.8
+    ed.undo()
     ed.reset()
     assert ed.sketch == five
     ed.undo()
     assert 7.0 in ed.sketch.x.tolist()
+
+
+def test_click_on_a_knot_selects_it_without_moving_it(five):
+    ed = Editor(sketch=five)
+    k = ed.knots
+    # press and release without a move: drag_start then drag_end, at the pixel-rounded place
+    pt = {"x": 5.0000000001, "y": 0.6000000001}
+    k._handle_custom_msgs(None, {"event": "drag_start", "point": pt, "index": 2})
+    synced(k, x=np.r_[five.x[:2], pt["x"], five.x[3:]], y=np.r_[five.p[:2], pt["y"], five.p[3:]])
+    k._handle_custom_msgs(None, {"event": "drag_end", "point": pt, "index": 2})
+    assert ed.sketch == five and ed.selected == 2 and not ed.can_undo
+    np.testing.assert_array_equal(k.x, five.x)  # the view snaps back to the exact knot
+    assert list(k.selected) == [2]
 
 
 def test_remove_keeps_two_knots():

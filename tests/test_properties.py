@@ -39,7 +39,7 @@ def sketches(draw):
         if kind == "stated":
             return ExponentialTail(scale=span / 3)
         limit = x[0] - span / 2 if side == "lower" else x[-1] + span / 2
-        return BoundedTail(float(limit), "uniform" if kind == "bounded" else "taper")
+        return BoundedTail(float(limit), density="uniform" if kind == "bounded" else "taper")
 
     return Sketch(
         x, p, interpolation=interp, lower_tail=tail(lower, "lower"), upper_tail=tail(upper, "upper")

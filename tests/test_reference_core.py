@@ -155,7 +155,7 @@ def test_scipy_protocol_matches_scipy_uniform():
 def test_bounded_taper_moments_match_scipy_triangular():
     # a taper tail alone is a right-triangular density: scipy.stats.triang(c=1)
     # all but 1e-12 of the mass in the taper on [0, 0.5]: density rising linearly to the knot
-    t = Sketch([0.5, 2.0], [1.0 - 1e-12, 1.0], lower_tail=BoundedTail(0.0, "taper"))
+    t = Sketch([0.5, 2.0], [1.0 - 1e-12, 1.0], lower_tail=BoundedTail(0.0, density="taper"))
     ref = stats.triang(c=1.0, loc=0.0, scale=0.5)
     assert t.mean() == pytest.approx(ref.mean(), rel=1e-9)
     assert t.var() == pytest.approx(ref.var(), rel=1e-8)

@@ -70,7 +70,7 @@ def test_tail_mass_is_exactly_what_outer_knots_leave():
 
 
 def test_taper_tail_density_falls_to_zero_at_limit():
-    s = Sketch([2, 3], [0.3, 1], lower_tail=BoundedTail(0.0, "taper"))
+    s = Sketch([2, 3], [0.3, 1], lower_tail=BoundedTail(0.0, density="taper"))
     assert s.pdf(0.0) == 0.0
     assert s.pdf(1.0) == pytest.approx(0.15)  # 2 m (x - L) / (x0 - L)^2
     assert s.cdf(1.0) == pytest.approx(0.3 * 0.25)
@@ -183,7 +183,7 @@ def test_method_bad_input(call, match):
     [
         (lambda: BoundedTail(np.inf), "finite"),
         (lambda: BoundedTail("x"), "must be a number"),
-        (lambda: BoundedTail(0.0, "steep"), "density must be one of"),
+        (lambda: BoundedTail(0.0, density="steep"), "density must be one of"),
         (lambda: ExponentialTail(-1.0), "positive"),
         (lambda: ExponentialTail("big"), "positive number or None"),
     ],

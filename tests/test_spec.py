@@ -76,7 +76,7 @@ def test_round_trip_preserves_everything():
         name="x",
         units="kg",
         lower_tail=ExponentialTail(2.0),
-        upper_tail=BoundedTail(9.0, "taper"),
+        upper_tail=BoundedTail(9.0, density="taper"),
         provenance={"author": "A", "rationale": "why"},
     )
     t = load(s.to_json())

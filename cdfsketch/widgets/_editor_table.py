@@ -184,4 +184,4 @@ class TailControl:
             return ExponentialTail(scale=v)
         if kind_changed and self.label.value != "limit":
             v = self._default_limit
-        return BoundedTail(v, kind.split("-", 1)[1])  # type: ignore[arg-type]
+        return BoundedTail(v, density=kind.split("-", 1)[1])  # type: ignore[arg-type]

@@ -181,12 +181,13 @@ def test_add_remove_type_undo_redo_through_the_ui(lab):
     np.testing.assert_array_equal(x2, x0)
     np.testing.assert_array_equal(p2, p0)
     # a click on an empty part of the canvas adds a knot there: halfway (in x and p)
-    # between the two knots farthest apart on screen
+    # between the neighbours with the most room on screen in both directions
     show_cdf_panel(lab)
     g = Geometry(lab)
     sx, sy = np.array([g.screen(a, b) for a, b in zip(x2, p2, strict=True)]).T
-    j = int(np.argmax(np.hypot(np.diff(sx), np.diff(sy))))
-    cx, cy = 0.5 * (sx[j] + sx[j + 1]), 0.5 * (sy[j] + sy[j + 1]) - 3.0
+    j = int(np.argmax(np.minimum(np.abs(np.diff(sx)), np.abs(np.diff(sy)))))
+    assert min(abs(sx[j + 1] - sx[j]), abs(sy[j + 1] - sy[j])) > 20  # room for a clear click
+    cx, cy = 0.5 * (sx[j] + sx[j + 1]), 0.5 * (sy[j] + sy[j + 1])
     page.mouse.click(cx, cy)
     x3, p3 = settled(lab)
     assert x3.size == n0 + 1

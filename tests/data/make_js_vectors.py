@@ -102,8 +102,8 @@ def _cases(rng: np.random.Generator) -> list[tuple[str, Sketch]]:
             Sketch(
                 [1, 2, 4],
                 [0.1, 0.5, 0.8],
-                lower_tail=BoundedTail(0.0, "uniform"),
-                upper_tail=BoundedTail(7.5, "taper"),
+                lower_tail=BoundedTail(0.0, density="uniform"),
+                upper_tail=BoundedTail(7.5, density="taper"),
             ),
         ),
         (
@@ -112,8 +112,8 @@ def _cases(rng: np.random.Generator) -> list[tuple[str, Sketch]]:
                 [1, 2, 4],
                 [0.1, 0.5, 0.8],
                 interpolation=pch,
-                lower_tail=BoundedTail(-2.0, "taper"),
-                upper_tail=BoundedTail(5.0, "uniform"),
+                lower_tail=BoundedTail(-2.0, density="taper"),
+                upper_tail=BoundedTail(5.0, density="uniform"),
             ),
         ),
         (
@@ -150,7 +150,7 @@ def _cases(rng: np.random.Generator) -> list[tuple[str, Sketch]]:
         ),
         (
             "bounded below, exponential above (linear)",
-            Sketch([1, 2, 4], [0.1, 0.5, 0.8], lower_tail=BoundedTail(0.5, "taper")),
+            Sketch([1, 2, 4], [0.1, 0.5, 0.8], lower_tail=BoundedTail(0.5, density="taper")),
         ),
         (
             "wide magnitudes, bounded at zero (pchip)",
