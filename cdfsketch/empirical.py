@@ -112,6 +112,26 @@ def _float_vector(values: Any, name: str) -> np.ndarray:
     return np.asarray(arr, dtype=float)
 
 
+def _is_sorted(x: np.ndarray) -> bool:
+    """Whether ``x`` is non-decreasing (False when it holds a NaN: comparisons are false)."""
+    return x.size >= 1 and bool(np.all(x[1:] >= x[:-1]))
+
+
+def _valid_sorted(x: np.ndarray) -> bool:
+    """Fast intake check for sorted data, or False to take the full path (which explains).
+
+    A non-decreasing float array has no NaN (every comparison with NaN is false), keeps any
+    ±inf at its ends, and holds two distinct values exactly when its ends differ: one pass
+    (the order check) instead of separate passes for NaN, inf, min and max.
+    """
+    return (
+        x.size >= 2
+        and _is_sorted(x)
+        and bool(np.isfinite(x[0]) and np.isfinite(x[-1]))
+        and bool(x[0] < x[-1])
+    )
+
+
 def as_aligned_data(
     data: ArrayLike,
     *,
@@ -153,6 +173,8 @@ def as_aligned_data(
     ([3.0, 1.0, 2.0], [1.0, 2.0, 1.0], [False, True, False])
     """
     x = _float_vector(data, name)
+    if weights is None and censored is None and _valid_sorted(x):
+        return x, None, None
     w = c = None
     if weights is not None:
         w = _float_vector(weights, "weights")
@@ -530,8 +552,12 @@ class ECDF:
         x, w, c = as_aligned_data(data, weights=weights, censored=censored)
         n = x.size
         if w is None and c is None:
-            xs = x if bool(np.all(x[1:] >= x[:-1])) else np.sort(x)
-            last = np.flatnonzero(np.r_[xs[1:] != xs[:-1], True])
+            # sorted input (checked in one pass) is used as it is, without a copy
+            xs = x if _is_sorted(x) else np.sort(x)
+            new = np.empty(n, dtype=bool)
+            np.not_equal(xs[1:], xs[:-1], out=new[:-1])
+            new[-1] = True
+            last = np.flatnonzero(new)
             ux = xs[last]
             p = (last + 1) / n
             n_eff = float(n)
@@ -566,7 +592,7 @@ class ECDF:
         self._n = int(n)
         self._n_eff = n_eff
         self._censoring = c is not None
-        self._data_max = float(x.max())
+        self._data_max = float(xs[-1]) if w is None and c is None else float(x.max())
 
     def __repr__(self) -> str:
         kind = "Kaplan–Meier" if self._censoring else "ECDF"
@@ -777,14 +803,34 @@ class ECDF:
         if 2 * xs.size <= max_points:
             vx, vp = _outline(xs, ps)
             return StepOutline(vx, vp, 0.0, 0.0)
-        # bin index; clipped so rounding of p / tol at p = 1 cannot open an extra bin
+        # bin of p: clip(ceil(p / tol), 1, nbins) (clipped so that rounding of p / tol at
+        # p = 1 cannot open an extra bin). It is non-decreasing along ps, so the bins'
+        # boundaries are found by binary search on the p levels, O(nbins · log m), instead
+        # of a pass over every jump point; candidates are then corrected by evaluating the
+        # bin formula itself next to them, so the kept points are exactly those where the
+        # bin changes.
         nbins = math.ceil(1.0 / tol - 1e-12)
-        k = np.clip(np.ceil(ps / tol), 1, nbins).astype(np.int64)
-        change = k[1:] != k[:-1]
-        keep = np.r_[True, change] | np.r_[change, True]
-        idx = np.flatnonzero(keep)
-        # error: F at each jump minus the value of the last kept jump at or before it
-        last_kept = np.maximum.accumulate(np.where(keep, np.arange(xs.size), 0))
-        max_error = float(np.max(ps - ps[last_kept]))
+        m = xs.size
+
+        def bin_of(i: np.ndarray) -> np.ndarray:
+            return np.clip(np.ceil(ps[i] / tol), 1, nbins)
+
+        level = np.arange(1, nbins, dtype=float)
+        # ends[k-1]: how many jump points lie in bins 1..k
+        ends = np.searchsorted(ps, level * tol, side="right")
+        for _ in range(64):
+            up = (ends < m) & (bin_of(np.minimum(ends, m - 1)) <= level)
+            down = (ends > 0) & (bin_of(np.maximum(ends - 1, 0)) > level)
+            if not (up.any() or down.any()):
+                break
+            ends = ends + up - down
+        bounds = np.concatenate(([0], ends, [m]))
+        first, stop = bounds[:-1], bounds[1:]
+        full = stop > first
+        first, last = first[full], stop[full] - 1
+        idx = np.unique(np.concatenate((first, last)))
+        # error F - D: inside a bin it grows up to the jump before the bin's last point
+        inner = last - first >= 2
+        max_error = float(np.max(ps[last[inner] - 1] - ps[first[inner]])) if inner.any() else 0.0
         vx, vp = _outline(xs[idx], ps[idx])
         return StepOutline(vx, vp, tol, max_error)

@@ -277,3 +277,15 @@ def test_start_from_candidate_and_auto(hours):
     assert ed.readout["excursion"] <= 0  # automatic knots stay inside the band
     with pytest.raises(ValueError, match="start_from takes"):
         ed.start_from(42)
+
+
+def test_density_axis_is_cut_below_a_near_vertical_stretch():
+    from cdfsketch.widgets.editor import _density_top
+
+    flat = np.full(200, 0.1)
+    top, cut = _density_top(flat, 0.12)
+    assert not cut and top == pytest.approx(0.12 * 1.12)
+    spiky = flat.copy()
+    spiky[100] = 2.4e5  # one knot pair almost on top of each other
+    top, cut = _density_top(spiky, 0.12)
+    assert cut and top < 1.0

@@ -36,19 +36,20 @@ class KnotTable:
         self._p_layout = w.Layout(width="100px")
         self._x_style = w.widgets.widget_description.DescriptionStyle(description_width="44px")
         self._p_style = w.widgets.widget_description.DescriptionStyle(description_width="0px")
+        # the header sits above the grid, not in it: a cell spanning two grid columns
+        # is not honoured by every front end, and the cells then shift by one
+        cell = f"display:inline-block;color:{palette.DATA};font-size:12px"
         head = w.HTML(
-            f"<span style='color:{palette.DATA};font-size:12px'>knot &nbsp;&nbsp;&nbsp;&nbsp; x"
-            " &nbsp;&nbsp;&nbsp;&nbsp;&nbsp;&nbsp;&nbsp;&nbsp;&nbsp;&nbsp;&nbsp;&nbsp;&nbsp;"
-            "&nbsp;&nbsp;&nbsp;&nbsp;&nbsp;&nbsp;&nbsp; p</span>"
+            f"<span style='{cell};width:44px'>knot</span>"
+            f"<span style='{cell};width:112px'>x</span>"
+            f"<span style='{cell};width:100px'>p</span>"
         )
-        self._head = head
         self.grid = w.GridBox(
-            [head],
-            layout=w.Layout(grid_template_columns="154px 104px", grid_gap="1px 2px"),
+            [], layout=w.Layout(grid_template_columns="154px 104px", grid_gap="1px 2px")
         )
-        self._head.layout.grid_column = "1 / span 2"
-        self.box = w.Box(
-            [self.grid], layout=w.Layout(max_height="300px", overflow="auto", width="290px")
+        self.box = w.VBox(
+            [head, self.grid],
+            layout=w.Layout(max_height="300px", overflow="auto", width="290px"),
         )
         self.box.add_class("cdfsketch-knot-table")
 
@@ -76,7 +77,7 @@ class KnotTable:
                 while len(self._rows) < n:
                     self._rows.append(self._make_row(len(self._rows)))
                 del self._rows[n:]
-                self.grid.children = [self._head, *(c for row in self._rows for c in row)]
+                self.grid.children = [c for row in self._rows for c in row]
             todo = range(n) if only is None else (only,)
             xs, ps = sketch.x, sketch.p
             for i in todo:

@@ -24,9 +24,44 @@ position is written back to the scatter, so the point snaps to where the
 knot really is. A gesture from drag start to drag end is one undo step.
 
 Outside a drag, changes to the scatter's ``x``/``y`` that arrive from the
-browser are read as "one knot moved" (clamped the same way); anything else
-is overwritten from :attr:`sketch`. Writes from the kernel are guarded so
-that the observers do not re-enter.
+browser are read as "one knot moved" (clamped the same way) or "one point
+appended" (a click on the canvas, below); anything else is overwritten from
+:attr:`sketch`. Writes from the kernel are guarded so that the observers do
+not re-enter. A press and release on a knot without a move in between is a
+click: it selects the knot and leaves it exactly where it was (bqplot reports
+the pointer's pixel-rounded position, which would move it slightly).
+
+Adding a knot by clicking the canvas
+------------------------------------
+The knot scatter itself has bqplot's ``interactions={"click": "add"}``: a
+click on the plot area's event rectangle (``rect.plotarea_events``, under the
+marks) appends the pointer's data position to the scatter's ``x``/``y``; the
+kernel inserts it in order with :meth:`Sketch.with_knot` (``p`` clamped
+between the neighbours) and writes the knots back. The curves and the band
+are made transparent to the pointer by CSS (``pointer-events: none``), so a
+click on them reaches the plot area too. An earlier design used a second,
+empty scatter to collect the clicks: in the browser its invisible points
+could stay behind after the kernel emptied it (seen under rapid input), and
+they counted as drawn points; one scatter whose whole state the kernel
+rewrites after every click has no such leftovers. bqplot's own "select"
+click interaction is not used (it would compete with "add"); clicking a knot
+selects it through the drag messages instead.
+
+Scales and what is drawn where
+------------------------------
+Both position scales have ``allow_padding=False``: bqplot otherwise widens a
+scale's pixel range per figure by its marks' padding (half a scatter marker,
+plus the figure's ``padding_y``) and expands the axes' domains to match, so
+within one figure the dots and the axes agree but the two panels (the
+density panel has no scatter) map the same ``x`` to different pixels. With
+no padding, the same side margins on both panels and the room for a whole
+dot at ``p = 0`` and ``1`` put into the ``p`` domain (``P_ROOM``), a value is
+drawn at ``left + (v - min) / (max - min) · width`` in both panels. The x
+axes use d3's round tick values (a fixed ``num_ticks`` puts ticks at evenly
+spaced values whose labels are rounded, so the labels did not name the tick
+positions). bqplot's figure toolbar is hidden: its pan/zoom changes the
+scales in the browser only, and the kernel would no longer know where the
+knots are drawn (it also covered knots near the top right corner).
 """
 
 from __future__ import annotations
@@ -59,7 +94,7 @@ _GRID = 400
 #: room below p = 0 and above p = 1 in the CDF panel (a whole knot dot shows at 0 and 1)
 P_ROOM = 0.04
 #: the same left and right margins on both panels, so that they share x pixel for pixel
-_SIDE_MARGINS = {"left": 58, "right": 50}
+_SIDE_MARGINS = {"left": 66, "right": 50}
 _EDITED = "edited in the cdfsketch Editor"
 _STYLE = """<style>
 .cdfsketch-editor .curve, .cdfsketch-editor .curve * { pointer-events: none; }
@@ -157,15 +192,13 @@ class Editor(w.VBox):
         self._data = (
             None if data is None else DataView(data, level=level, holdout=holdout, seed=seed)
         )
+        self._auto: Sketch | None = None
         if sketch is None:
-            from ..autoknots import from_data
-
-            sketch = from_data(self._data.sorted, level=level)  # type: ignore[union-attr]
+            sketch = self._auto_knots()
         changes = {k: v for k, v in (("name", name), ("units", units)) if v is not None}
         if changes:
             sketch = sketch.replace(**changes)
         self._initial = sketch
-        self._auto: Sketch | None = None
         self._candidates = list(candidates or [])
         self._undo: list[Sketch] = []
         self._redo: list[Sketch] = []
@@ -209,7 +242,7 @@ class Editor(w.VBox):
         self._xs = bq.LinearScale(min=lo, max=hi, allow_padding=False)
         ys = bq.LinearScale(min=-P_ROOM, max=1.0 + P_ROOM, allow_padding=False)
         self._ys = ys
-        self._ds = bq.LinearScale(min=0.0)
+        self._ds = bq.LinearScale(min=0.0, allow_padding=False)
         self._ms = bq.LinearScale(min=0.0, max=1.0)
         grid = {"stroke": "#e4e4e4"}
         ax_x = bq.Axis(scale=self._xs, label=xlabel, grid_color="#e4e4e4")
@@ -221,7 +254,7 @@ class Editor(w.VBox):
         per = f"per {units}" if units else "per unit"
         ax_d = bq.Axis(
             scale=self._ds, side="left", label=f"density ({per})", grid_lines="none",
-            tick_format=".2g",
+            tick_format=".2g", label_offset="46px",
         )  # fmt: skip
         ax_m = bq.Axis(
             scale=self._ms, side="right", label="atom mass",
@@ -262,15 +295,11 @@ class Editor(w.VBox):
         self.knots = bq.Scatter(
             x=s.x, y=s.p, scales=sc, enable_move=True, update_on_move=False,
             colors=[palette.KNOT], stroke="white", default_size=90, stroke_width=1.5,
-            interactions={"click": "select"},
+            interactions={"click": "add"},
             selected_style={"stroke": palette.LOCKED, "stroke-width": 3},
             unselected_style={},
         )  # fmt: skip
-        self._adder = bq.Scatter(
-            x=np.empty(0), y=np.empty(0), scales=sc, interactions={"click": "add"},
-            colors=[palette.KNOT], opacities=[0.0],
-        )  # fmt: skip
-        marks_cdf += [self._candidate_line, self.cdf_line, self._adder, self.knots]
+        marks_cdf += [self._candidate_line, self.cdf_line, self.knots]
         self.pdf_line = bq.Lines(
             x=[0.0, 1.0], y=[0.0, 0.0], scales={"x": self._xs, "y": self._ds},
             colors=[palette.SKETCH], stroke_width=2.0,
@@ -293,13 +322,13 @@ class Editor(w.VBox):
             marks=marks_cdf, axes=[ax_x, ax_y], title="CDF: drag the knots",
             fig_margin={"top": 36, "bottom": 44, **_SIDE_MARGINS},
             layout=w.Layout(width="640px", height="360px"), title_style={"font-size": "14px"},
-            background_style={"fill": "white"}, animation_duration=0,
+            background_style={"fill": "white"}, animation_duration=0, display_toolbar=False,
         )  # fmt: skip
         self.pdf_figure = bq.Figure(
             marks=marks_pdf, axes=[ax_x2, ax_d, ax_m], title="implied density",
             fig_margin={"top": 30, "bottom": 44, **_SIDE_MARGINS},
             layout=w.Layout(width="640px", height="230px"), title_style={"font-size": "13px"},
-            animation_duration=0,
+            animation_duration=0, display_toolbar=False,
         )  # fmt: skip
         self.cdf_figure.add_class("cdfsketch-cdf")
         self.pdf_figure.add_class("cdfsketch-pdf")
@@ -307,8 +336,19 @@ class Editor(w.VBox):
         self.knots.on_drag(self._on_drag)
         self.knots.on_drag_end(self._on_drag_end)
         self.knots.observe(self._on_knots_synced, names=["x", "y"])
-        self.knots.observe(self._on_knot_selected, names="selected")
-        self._adder.observe(self._on_canvas_click, names=["x", "y"])
+
+    def _auto_knots(self) -> Sketch:
+        """:func:`cdfsketch.autoknots.from_data` on the data, reusing the ECDF built once."""
+        if self._auto is None:
+            from ..autoknots import _from_ecdf
+
+            d = self._data
+            assert d is not None
+            self._auto = _from_ecdf(
+                d.ecdf, d.fingerprint, level=d.level, interpolation="linear", budget=None,
+                lower_tail=None, upper_tail=None, name="", units="",
+            )  # fmt: skip
+        return self._auto
 
     def _button(self, label: str, css: str, action: Any, tip: str = "") -> w.Button:
         b = w.Button(description=label, tooltip=tip, layout=w.Layout(width="auto"))
@@ -324,7 +364,7 @@ class Editor(w.VBox):
         self.table = KnotTable(on_edit=self._on_cell)
         self._interp = w.ToggleButtons(
             options=[("linear", "linear"), ("monotone cubic", "pchip")],
-            style={"button_width": "120px"},
+            style={"button_width": "132px"},
         )
         self._interp.add_class("cdfsketch-interpolation")
         self._interp.observe(self._on_interp, names="value")
@@ -436,9 +476,14 @@ class Editor(w.VBox):
         with self._quiet():
             with self.cdf_line.hold_sync():
                 self.cdf_line.x, self.cdf_line.y = g, cdf
-            top = max(self._hist_max, float(pdf.max()) if pdf.size else 0.0) * 1.12 or 1.0
+            top, clipped = _density_top(pdf, self._hist_max)
             if not drag or top > (self._ds.max or 0):
                 self._ds.max = top
+                title = "implied density"
+                if clipped:
+                    title += f" (axis cut at {top:.3g}; peak {float(pdf.max()):.3g})"
+                if self.pdf_figure.title != title:
+                    self.pdf_figure.title = title
             with self.pdf_line.hold_sync():
                 self.pdf_line.x, self.pdf_line.y = g, pdf
             self._draw_atoms(s)
@@ -611,6 +656,17 @@ class Editor(w.VBox):
         s = self.sketch
         kx = np.asarray(self.knots.x, dtype=float)
         ky = np.asarray(self.knots.y, dtype=float)
+        if (
+            kx.shape == ky.shape
+            and kx.size == len(s) + 1
+            and np.array_equal(kx[:-1], s.x)
+            and np.array_equal(ky[:-1], s.p)
+        ):
+            # a click on the canvas: bqplot's "add" interaction appended the pointer's point
+            self._add_at(float(kx[-1]), float(ky[-1]))
+            with self._quiet():
+                self._write_knots(self.sketch)
+            return
         if kx.shape == s.x.shape == ky.shape:
             moved = np.flatnonzero((kx != s.x) | (ky != s.p))
             if moved.size == 1 and int(moved[0]) not in self._locked:
@@ -620,23 +676,6 @@ class Editor(w.VBox):
                     return
         with self._quiet():
             self._write_knots(s)
-
-    def _on_knot_selected(self, change: dict) -> None:
-        if self._writing:
-            return
-        sel = change["new"]
-        self.selected = None if sel is None or len(sel) == 0 else int(sel[0])
-
-    def _on_canvas_click(self, change: dict) -> None:
-        if self._writing:
-            return
-        ax, ay = np.asarray(self._adder.x), np.asarray(self._adder.y)
-        if ax.size == 0 or ax.size != ay.size:
-            return
-        x, p = float(ax[-1]), float(ay[-1])
-        with self._quiet(), self._adder.hold_sync():
-            self._adder.x, self._adder.y = np.empty(0), np.empty(0)
-        self._add_at(x, p)
 
     # ---------------------------------------------------------------- controls
     def _on_cell(self, i: int, field: str, value: float) -> None:
@@ -838,11 +877,7 @@ class Editor(w.VBox):
             if self._data is None:
                 self._error("Automatic knots need data; this editor has none.")
                 return self
-            if self._auto is None:
-                from ..autoknots import from_data
-
-                self._auto = from_data(self._data.sorted, level=self._data.level)
-            new = self._auto.replace(name=s.name, units=s.units)
+            new = self._auto_knots().replace(name=s.name, units=s.units)
         elif isinstance(choice, str) and choice.startswith("cand:"):
             cand = self._candidates[int(choice[5:])]
             new = cand.to_sketch(knots=12, name=s.name, units=s.units)
@@ -918,3 +953,21 @@ class Editor(w.VBox):
             f"sketch = cdfsketch.load({os.fspath(path)!r})\n"
             "values = sketch.sample(10_000, rng=1)"
         )
+
+
+def _density_top(pdf: np.ndarray, hist_max: float) -> tuple[float, bool]:
+    """Top of the density axis, and whether a peak is cut off.
+
+    A nearly vertical stretch of the CDF has an enormous density; letting it
+    set the axis would flatten everything else to zero. The axis stops at four
+    times the larger of the data histogram's peak and the sketch's 95th
+    percentile density, and the panel title says where it was cut (common
+    practice, no source).
+    """
+    peak = float(pdf.max()) if pdf.size else 0.0
+    positive = pdf[pdf > 0]
+    typical = float(np.percentile(positive, 95)) if positive.size else 0.0
+    cap = 4.0 * max(hist_max, typical)
+    if cap > 0 and peak > cap:
+        return cap * 1.05, True
+    return (max(hist_max, peak) * 1.12) or 1.0, False
