@@ -345,7 +345,7 @@ def _from_ecdf(
     units: str,
 ) -> Sketch:
     """:func:`from_data` on an ECDF already built (the editor builds it once for all uses)."""
-    band = ecdf.band(level)
+    band = ecdf.band(level=level)
     if ecdf.x.size > DECIMATE_ABOVE:
         xs, lo0, hi0, delta = _outline_windows(ecdf, band)
     else:

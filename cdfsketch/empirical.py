@@ -724,7 +724,7 @@ class ECDF:
         return float(out) if size is None else out
 
     # ------------------------------------------------------------ band
-    def band(self, level: float = 0.95) -> Band:
+    def band(self, *, level: float = 0.95) -> Band:
         """Simultaneous DKW–Massart band ``clip(F_n ± ε, 0, 1)``, ``ε = dkw_eps(n)``.
 
         ``n`` is the Kish effective size for weighted data (an approximation:

@@ -33,7 +33,7 @@ CASES = {
 
 def _inside(sketch: Sketch, data: np.ndarray, level: float) -> float:
     """Largest excursion outside the band, checked independently of autoknots' own check."""
-    band = ECDF(data).band(level)
+    band = ECDF(data).band(level=level)
     grid = np.linspace(data.min() - 1, data.max() + 1, 50_001)
     worst = max(
         np.max(band.lower(grid) - sketch.cdf(grid)), np.max(sketch.cdf(grid) - band.upper(grid))

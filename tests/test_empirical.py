@@ -108,7 +108,7 @@ def test_strikes_summaries_and_band():
     assert e.n == 62 and e.support == (1.0, 216.0)
     assert (e.ppf(0.5) + e.ppf(np.nextafter(0.5, 1))) / 2 == 27.0
     # source: Massart 1990 constant, n=62 alpha=.05 -> 0.172479 (REFERENCES.md)
-    assert e.band(0.95).eps == pytest.approx(0.172479, abs=5e-7)
+    assert e.band(level=0.95).eps == pytest.approx(0.172479, abs=5e-7)
 
 
 # ------------------------------------------------------------ band
@@ -125,13 +125,13 @@ def test_strikes_summaries_and_band():
 )
 def test_dkw_eps_published_values(n, level, eps):
     assert dkw_eps(n, level=level) == pytest.approx(eps, abs=5e-7)
-    b = ECDF(np.arange(n, dtype=float)).band(level)
+    b = ECDF(np.arange(n, dtype=float)).band(level=level)
     assert b.eps == pytest.approx(eps, abs=5e-7) and b.n == n and b.level == level
 
 
 def test_band_is_clipped_step_functions():
     e = ECDF([1.0, 2.0, 3.0, 4.0])
-    b = e.band(0.5)
+    b = e.band(level=0.5)
     g = _grid(e.x)
     np.testing.assert_allclose(b.lower(g), np.clip(e.cdf(g) - b.eps, 0, 1))
     np.testing.assert_allclose(b.upper(g), np.clip(e.cdf(g) + b.eps, 0, 1))
@@ -147,7 +147,7 @@ def test_band_coverage_by_simulation():
     for n in (10, 50, 200):
         covered = 0
         for _ in range(reps):
-            b = ECDF(rng.random(n)).band(0.95)
+            b = ECDF(rng.random(n)).band(level=0.95)
             covered += b.excursion(lambda x: np.clip(x, 0.0, 1.0)) <= 0
         assert covered / reps >= 0.95 - 3 * math.sqrt(0.95 * 0.05 / reps), (n, covered)
         # exact: P(D_n > eps) from scipy.stats.kstwo (Simard & L'Ecuyer 2011) is <= alpha
@@ -161,7 +161,7 @@ def test_band_excursion_matches_scipy_ks_statistic():
     outside = 0
     for _ in range(200):
         x = rng.normal(size=80)
-        b = ECDF(x).band(0.3)  # a narrow band so that many samples leave it
+        b = ECDF(x).band(level=0.3)  # a narrow band so that many samples leave it
         d = st.ks_1samp(x, st.norm.cdf).statistic
         exc = b.excursion(st.norm.cdf)
         assert (exc > 0) == (d > b.eps)
@@ -176,7 +176,7 @@ def test_weighted_band_uses_kish_effective_n():
     e = ECDF([1.0, 2.0, 3.0, 4.0], weights=w)
     kish = w.sum() ** 2 / (w**2).sum()  # Kish 1965 effective sample size
     assert e.n_effective == pytest.approx(kish)
-    assert e.band(0.9).eps == pytest.approx(math.sqrt(math.log(2 / 0.1) / (2 * kish)))
+    assert e.band(level=0.9).eps == pytest.approx(math.sqrt(math.log(2 / 0.1) / (2 * kish)))
 
 
 def test_band_refuses_censored_data_naming_an_alternative():
@@ -188,7 +188,7 @@ def test_band_refuses_censored_data_naming_an_alternative():
 @pytest.mark.parametrize("level", [0, 1, 1.5, -0.1, "high"])
 def test_band_bad_level(level):
     with pytest.raises(ValueError, match="level must"):
-        ECDF([1.0, 2.0]).band(level)
+        ECDF([1.0, 2.0]).band(level=level)
 
 
 # ------------------------------------------------------------ weights, ppf, sample

@@ -62,7 +62,7 @@ class DataView:
         xs = x if bool(np.all(x[1:] >= x[:-1])) else np.sort(x)
         self.sorted = xs
         self.ecdf = ECDF(xs)
-        self.band = self.ecdf.band(level)
+        self.band = self.ecdf.band(level=level)
         self.level = float(level)
         self.n = int(x.size)
         out = self.ecdf.steps(max_points=OUTLINE_POINTS)
