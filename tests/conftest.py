@@ -2,6 +2,7 @@
 
 from __future__ import annotations
 
+import numpy as np
 import pytest
 
 from cdfsketch import BoundedTail, ExponentialTail, Sketch
@@ -39,3 +40,11 @@ def zoo() -> list[Sketch]:
         Sketch([1e6, 1e6 + 1, 1e6 + 3, 1e6 + 10], [0, 0.2, 0.9, 1], interpolation="pchip"),
         Sketch([-5, -1, 0, 0, 2, 8], [0.05, 0.2, 0.4, 0.6, 0.6, 0.97], interpolation="pchip"),
     ]
+
+
+@pytest.fixture(scope="session")
+def nile() -> np.ndarray:
+    """statsmodels' Nile river flows (n = 100), shipped with statsmodels (offline)."""
+    import statsmodels.api as sm
+
+    return sm.datasets.nile.load_pandas().data["volume"].to_numpy(dtype=float)

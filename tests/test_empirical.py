@@ -8,6 +8,7 @@ import warnings
 import numpy as np
 import pytest
 import scipy.stats as st
+import statsmodels.datasets as sm_datasets
 from hypothesis import given, settings
 from hypothesis import strategies as hs
 
@@ -19,8 +20,6 @@ from cdfsketch.empirical import (
     as_data,
     dkw_eps,
 )
-
-sm_datasets = pytest.importorskip("statsmodels.datasets")
 
 
 def _grid(values: np.ndarray) -> np.ndarray:
@@ -264,7 +263,8 @@ def test_nan_dropped_with_counting_warning_and_alignment():
 
 
 def test_pandas_inputs():
-    pd = pytest.importorskip("pandas")
+    import pandas as pd
+
     s = pd.Series([3, None, 1, 2], dtype="Int64")
     with pytest.warns(DroppedValuesWarning, match="Dropped 1"):
         assert as_data(s).tolist() == [3.0, 1.0, 2.0]

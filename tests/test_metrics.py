@@ -23,13 +23,6 @@ from cdfsketch.metrics import (
 )
 
 
-@pytest.fixture(scope="module")
-def nile() -> np.ndarray:
-    from statsmodels.datasets import nile as nile_ds  # open dataset shipped in statsmodels
-
-    return nile_ds.load_pandas().data["volume"].to_numpy(dtype=float)
-
-
 # ---------------------------------------------------------------- KS
 @pytest.mark.parametrize("dist", [st.norm(0.1, 1.1), st.logistic(0, 0.6), st.uniform(-3, 6)])
 def test_ks_matches_scipy_ks_1samp(dist):

@@ -39,12 +39,6 @@ HOSTILE = [
 
 
 @pytest.fixture(scope="module")
-def nile() -> np.ndarray:
-    sm = pytest.importorskip("statsmodels.api")
-    return sm.datasets.nile.load_pandas().data["volume"].to_numpy(dtype=float)
-
-
-@pytest.fixture(scope="module")
 def review(nile: np.ndarray) -> Review:
     from cdfsketch.fit import fit_candidates
 
@@ -199,7 +193,6 @@ def test_no_decision_page(nile: np.ndarray) -> None:
 
 @pytest.mark.parametrize("suffix", [".png", ".svg", ".pdf"])
 def test_figures_are_valid(review: Review, tmp_path: Path, suffix: str) -> None:
-    pytest.importorskip("matplotlib")
     out = review.save_figure(tmp_path / f"fig{suffix}", dpi=60)
     blob = out.read_bytes()
     if suffix == ".png":

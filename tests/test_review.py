@@ -21,12 +21,6 @@ HOSTILE = ["<img src=x onerror=alert(1)>", "</script><script>alert(1)</script>"]
 
 
 @pytest.fixture(scope="module")
-def nile() -> np.ndarray:
-    sm = pytest.importorskip("statsmodels.api")
-    return sm.datasets.nile.load_pandas().data["volume"].to_numpy(dtype=float)
-
-
-@pytest.fixture(scope="module")
 def experts() -> list[Sketch]:
     a = Sketch.from_quantiles({0.1: 650, 0.5: 880, 0.9: 1150}, name="expert A", units="1e8 m3")
     b = Sketch.from_quantiles(

@@ -23,18 +23,10 @@ from pathlib import Path
 
 import pytest
 
-CHROMIUM = "/usr/bin/chromium"
+from ._chromium import CHROMIUM, FLAGS
+
 HERE = Path(__file__).parent
 ARTIFACTS = HERE.parents[1] / "test-artifacts"
-FLAGS = [
-    "--no-sandbox",
-    "--disable-gpu",
-    "--disable-quic",
-    "--no-first-run",
-    "--disable-background-networking",
-    "--disable-component-update",
-    "--disable-sync",
-]
 # settings overrides: no news or update toasts (BROWSER-TESTING.md)
 OVERRIDES = {
     "@jupyterlab/apputils-extension:notification": {"fetchNews": "false", "checkForUpdates": False}

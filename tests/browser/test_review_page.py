@@ -26,18 +26,10 @@ from cdfsketch import Sketch
 from cdfsketch.empirical import ECDF
 from cdfsketch.report import Review, _page_from_payload, page_payload
 
+from ._chromium import CHROMIUM, FLAGS
+
 pytestmark = pytest.mark.browser
 
-CHROMIUM = "/usr/bin/chromium"
-ARGS = [
-    "--no-sandbox",
-    "--disable-gpu",
-    "--disable-quic",
-    "--no-first-run",
-    "--disable-background-networking",
-    "--disable-component-update",
-    "--disable-sync",
-]
 HOSTILE = ["<img src=x onerror=alert(1)>", "</script><script>alert(1)</script>"]
 RATIONALE = "closest to the record & the experts <b>agree</b>\n" + HOSTILE[1]
 
@@ -57,12 +49,6 @@ def _need_browser() -> Any:
             pytest.fail(f"CI must run the browser tests: {problem}.")
         pytest.skip(f"browser tests did not run: {problem}")
     return sync_playwright
-
-
-@pytest.fixture(scope="module")
-def nile() -> np.ndarray:
-    sm = pytest.importorskip("statsmodels.api")
-    return sm.datasets.nile.load_pandas().data["volume"].to_numpy(dtype=float)
 
 
 @pytest.fixture(scope="module")
@@ -97,7 +83,7 @@ def context(tmp_path_factory: pytest.TempPathFactory):
             str(profile),
             executable_path=CHROMIUM,
             headless=True,
-            args=ARGS,
+            args=FLAGS,
             accept_downloads=True,
         )
         try:
