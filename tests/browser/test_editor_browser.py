@@ -170,6 +170,8 @@ def test_rapid_random_drags_stay_valid_and_drawn_where_the_kernel_has_them(lab):
 
 def test_add_remove_type_undo_redo_through_the_ui(lab):
     page = lab.page
+    # start from the sketch the editor opened, whatever earlier tests did (the reset button)
+    page.locator(".cdfsketch-reset").click()
     x0, p0 = settled(lab)
     n0 = x0.size
     # the "add knot" button (no knot selected: the middle of the widest step in p)
