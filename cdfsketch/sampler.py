@@ -10,11 +10,13 @@ A sketch is compiled once into lookup tables over ``u``:
   u_tolerance`` at test points inside the cell and ``x(u)`` is non-decreasing.
   So a draw costs one index, four gathers and a Horner step (the guide-table
   idea of Chen & Asau 1974 taken to one interval per cell);
+* exponential tails are tabled the same way (cubics through exact points of
+  their closed-form inverse, accepted under the same checks);
 * the few cells that hold a breakpoint (a knot's p, an atom, a tail's start)
-  or fail the accuracy test have NaN coefficients; their draws are redone
-  with right-closed intervals ``(ul, ur]`` found by binary search, built the
-  same way but halved adaptively until they pass;
-* exponential tails are inverted in closed form.
+  or fail the accuracy test (next to ``u = 0`` or ``1`` under an exponential
+  tail) have NaN coefficients; their draws are redone with right-closed
+  intervals ``(ul, ur]`` found by binary search, built the same way but halved
+  adaptively until they pass, and with the tails' closed forms.
 
 Draws are made in cache-sized chunks with fixed-size work buffers, so the
 extra memory is O(chunk), and since each value depends only on its own
@@ -80,6 +82,7 @@ class Sampler:
         "_ib",
         "_ic",
         "_id",
+        "_ixmax",
         "_lower",
         "_p_high",
         "_p_low",
@@ -109,6 +112,10 @@ class Sampler:
         ul, ur, coef = _body_intervals(pc, tol, _slow_ranges(self._a, cells))
         self._ul, self._ur = ul, ur
         self._ia, self._ib, self._ic, self._id = coef
+        # x is non-decreasing: no interval may end above where the next one starts (this
+        # keeps rounding from lifting x over a knot or an atom's position)
+        joined = np.r_[ul[1:] == ur[:-1], False]
+        self._ixmax = np.where(joined, np.r_[coef[0][1:], np.inf], np.inf)
         self.n_intervals = int(ul.size)
         self._lower, self._upper = pc.lower, pc.upper
         self._p_low, self._p_high = pc.p_low, pc.p_high
@@ -140,26 +147,32 @@ class Sampler:
             np.isnan(out, out=m)
             if m.any():
                 idx = np.flatnonzero(m)
-                out[idx] = self._interval_ppf(u[idx])
+                out[idx] = self._slow_ppf(u[idx])
+
+    def _slow_ppf(self, u: np.ndarray) -> np.ndarray:
+        """The slow path: closed-form exponential tails, intervals by binary search."""
+        x = self._interval_ppf(u)
         if self._lower is not None:
-            np.less_equal(u, self._p_low, out=m)
-            if m.any():
+            lo = u <= self._p_low
+            if lo.any():
                 tail = self._lower
-                ut = u[m]
+                ut = u[lo]
                 # a draw of exactly u = 0 (chance 2^-53) goes far into the tail, not to -inf
                 ut[ut == 0] = min(2.0**-54, 0.5 * tail.mass)
-                out[m] = tail.edge + tail.scale * np.log(ut / tail.mass)
+                x[lo] = tail.edge + tail.scale * np.log(ut / tail.mass)
         if self._upper is not None:
-            np.greater(u, self._p_high, out=m)
-            if m.any():
+            hi = u > self._p_high
+            if hi.any():
                 tail = self._upper
-                out[m] = tail.edge - tail.scale * np.log((1.0 - u[m]) / tail.mass)
+                x[hi] = tail.edge - tail.scale * np.log((1.0 - u[hi]) / tail.mass)
+        return x
 
     def _interval_ppf(self, u: np.ndarray) -> np.ndarray:
         """The slow path: binary search over the intervals ``(ul, ur]``."""
         k = np.minimum(np.searchsorted(self._ur, u, side="left"), self._ur.size - 1)
         s = np.clip(u - self._ul[k], 0.0, None)
-        return self._ia[k] + s * (self._ib[k] + s * (self._ic[k] + s * self._id[k]))
+        x = self._ia[k] + s * (self._ib[k] + s * (self._ic[k] + s * self._id[k]))
+        return np.minimum(x, self._ixmax[k])
 
     def _work(self, n: int) -> dict[str, np.ndarray]:
         return {
@@ -172,8 +185,8 @@ class Sampler:
     def ppf(self, u: Any) -> Any:
         """Table inverse at probabilities ``u`` (e.g. Latin hypercube or Sobol points).
 
-        Exact for linear sketches; ``|u - cdf(ppf(u))| ≤ 1e-10`` for monotone
-        cubic ones. ``ppf(0)``/``ppf(1)`` are the support's ends.
+        Exact for linear pieces and atoms; ``|u - cdf(ppf(u))| ≤ 1e-10`` for
+        monotone cubic pieces and exponential tails. ``ppf(0)``/``ppf(1)`` are the support's ends.
 
         Examples
         --------
@@ -282,7 +295,6 @@ def _body_intervals(
     block = np.concatenate(blocks, axis=1)
     block = block[:, np.argsort(block[0], kind="stable")]
     cols = [block[i].copy() for i in range(6)]
-    _keep_below_atoms(*cols)
     return cols[0], cols[1], tuple(cols[2:])
 
 
@@ -315,26 +327,6 @@ def _slow_ranges(a: np.ndarray, cells: int) -> np.ndarray:
     starts = np.r_[slow[0], slow[breaks + 1]]
     stops = np.r_[slow[breaks], slow[-1]] + 1
     return np.column_stack([starts / cells, np.minimum(stops / cells, 1.0)])
-
-
-def _keep_below_atoms(ul, ur, a, b, c, d) -> None:
-    """Keep intervals that end where an atom starts strictly below the atom's x, in place.
-
-    Rounding in the polynomial could otherwise put ``x(u)`` for ``u`` just
-    below the atom a hair above the atom's ``x``, where ``F`` has already
-    jumped. The rise ``b, c, d`` is scaled down by a few ulps; the start
-    ``a`` (the piece's own left end) does not move.
-    """
-    const = (b == 0) & (c == 0) & (d == 0)
-    for k in np.flatnonzero(const[1:] & ~const[:-1]):
-        w = ur[k] - ul[k]
-        rise = w * (b[k] + w * (c[k] + w * d[k]))
-        target = a[k + 1] - 2 * np.spacing(abs(a[k + 1]))
-        if a[k] + rise > target and rise > 0:
-            shrink = max((target - a[k]) / rise, 0.0)
-            b[k] *= shrink
-            c[k] *= shrink
-            d[k] *= shrink
 
 
 def _cubic_intervals(
@@ -386,13 +378,13 @@ def _eval_tau(coef: np.ndarray, tau: np.ndarray) -> np.ndarray:
 def _cell_count(cubic_pieces: int, pieces: int) -> int:
     """Cells ``M`` of the uniform grid: a power of two, so ``u M`` is exact.
 
-    About 512 cells per monotone cubic piece (4096 to 16384), or 32 per piece
+    About 512 cells per monotone cubic piece (4096 to 16384), or 128 per piece
     otherwise (4096 to 65536): enough that few cells hold a breakpoint or
     fail the accuracy test, few enough to compile in milliseconds.
     """
     if cubic_pieces:
         return 1 << min(14, max(12, math.ceil(math.log2(512 * cubic_pieces))))
-    return 1 << min(16, max(12, math.ceil(math.log2(32 * (pieces + 2)))))
+    return 1 << min(16, max(12, math.ceil(math.log2(128 * (pieces + 2)))))
 
 
 def _regions(pc: _pieces.Pieces) -> tuple[np.ndarray, ...]:
@@ -441,7 +433,15 @@ def _cell_tables(pc: _pieces.Pieces, cells: int, tol: float) -> tuple[np.ndarray
     c = np.zeros(cells + 1)
     d = np.zeros(cells + 1)
     k = kind[r]
-    a[fast & (k == 0)] = 0.0
+    for tail, upper in ((pc.lower, False), (pc.upper, True)):
+        if tail is None:
+            continue
+        side = (lo >= pc.p_high) if upper else (hi <= pc.p_low)
+        sel = np.flatnonzero(fast & (k == 0) & side)
+        if sel.size:
+            coef, ok = _fit_tail_cubics(tail, upper, lo[sel], hi[sel], tol)
+            good = sel[ok]
+            a[good], b[good], c[good], d[good] = coef[:, ok]
     sel = fast & (k == 1)
     a[sel] = np.r_[pc.xa, pc.x_end][which[r[sel]]]
     sel = fast & (k == 2)
@@ -457,6 +457,46 @@ def _cell_tables(pc: _pieces.Pieces, cells: int, tol: float) -> tuple[np.ndarray
         good = sel[ok]
         a[good], b[good], c[good], d[good] = coef[:, ok]
     return a, b, c, d
+
+
+def _tail_inverse(tail: _pieces.ExpTail, upper: bool, u: np.ndarray) -> np.ndarray:
+    if upper:
+        return tail.edge - tail.scale * np.log((1.0 - u) / tail.mass)
+    return tail.edge + tail.scale * np.log(u / tail.mass)
+
+
+def _tail_cdf(tail: _pieces.ExpTail, upper: bool, x: np.ndarray) -> np.ndarray:
+    if upper:
+        return 1.0 - tail.mass * np.exp(-(x - tail.edge) / tail.scale)
+    return tail.mass * np.exp((x - tail.edge) / tail.scale)
+
+
+def _fit_tail_cubics(
+    tail: _pieces.ExpTail, upper: bool, lo: np.ndarray, hi: np.ndarray, tol: float
+) -> tuple[np.ndarray, np.ndarray]:
+    """Cubics through four points of an exponential tail's inverse, checked like pieces.
+
+    Cells next to ``u = 0`` or ``u = 1`` (where the inverse is unbounded) fail
+    the checks and stay on the exact slow path.
+    """
+    w = hi - lo
+    with np.errstate(divide="ignore", invalid="ignore", over="ignore"):
+        u_nodes = lo[:, None] + w[:, None] * _FIT_TAU[None, :]
+        x_nodes = _tail_inverse(tail, upper, u_nodes)
+        x0 = x_nodes[:, :1]
+        tau_coef = (x_nodes - x0) @ _FIT_INV.T
+        u_test = lo[:, None] + w[:, None] * _TEST_TAU[None, :]
+        rel_test = _eval_tau(tau_coef, _TEST_TAU)
+        x_test = x0 + rel_test
+        err = np.abs(_tail_cdf(tail, upper, x_test) - u_test).max(axis=1)
+        dens = np.abs(_tail_cdf(tail, upper, x_test) - (0.0 if not upper else 1.0)) / tail.scale
+        floor = 4 * (dens * np.spacing(np.abs(x_test))).max(axis=1)
+        path = np.concatenate([np.zeros_like(x0), rel_test, x_nodes[:, -1:] - x0], axis=1)
+        monotone = np.all(np.diff(path, axis=1) >= 0, axis=1)
+        ok = (err <= tol + floor) & monotone & np.all(np.isfinite(x_nodes), axis=1)
+    coef = tau_coef.T.copy()
+    coef[0] += x0[:, 0]
+    return coef, ok
 
 
 def _fit_inverse_cubics(
