@@ -768,10 +768,6 @@ def _linear_bins(z: np.ndarray, delta: float) -> tuple[np.ndarray, np.ndarray]:
     return lo + uniq[keep] * delta, cnt[keep]
 
 
-def _mixture_loglik(x: np.ndarray, w: np.ndarray, mu: np.ndarray, var: np.ndarray) -> float:
-    return float(np.sum(_MixtureModel(w, mu, np.sqrt(var)).logpdf(x)))
-
-
 def fit_normal_mixture(
     data: ArrayLike,
     k: int,

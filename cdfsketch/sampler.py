@@ -105,11 +105,12 @@ class Sampler:
         carries = pc.pr > pc.pl
         cells = _cell_count(int(np.sum(pc.nonlinear() & carries)), int(np.sum(carries)))
         self._cells = cells
-        self._a, self._b, self._c, self._d = _cell_tables(pc, cells, tol)
+        regions = _regions(pc)
+        self._a, self._b, self._c, self._d = _cell_tables(pc, regions, cells, tol)
         self._cubic = bool(np.any(self._c != 0) or np.any(self._d != 0))
         self.n_slow_cells = int(np.isnan(self._a[:cells]).sum())
         # the slow path: exact or adaptive intervals over the slow cells only
-        ul, ur, coef = _body_intervals(pc, tol, _slow_ranges(self._a, cells))
+        ul, ur, coef = _body_intervals(pc, regions, tol, _slow_ranges(self._a, cells))
         self._ul, self._ur = ul, ur
         self._ia, self._ib, self._ic, self._id = coef
         # x is non-decreasing: no interval may end above where the next one starts (this
@@ -256,14 +257,17 @@ class Sampler:
 
 
 def _body_intervals(
-    pc: _pieces.Pieces, tol: float, keep: np.ndarray | None = None
+    pc: _pieces.Pieces,
+    regions: tuple[np.ndarray, ...],
+    tol: float,
+    keep: np.ndarray | None = None,
 ) -> tuple[np.ndarray, np.ndarray, tuple[np.ndarray, ...]]:
     """Intervals ``(ul, ur]`` covering the body, or only its parts inside ``keep``.
 
     ``keep`` holds sorted, disjoint ``[lo, hi]`` ranges of ``u`` (the slow
     cells); ``None`` covers the whole body ``(p_low, p_high]``.
     """
-    rul, rur, kind, which = _regions(pc)
+    rul, rur, kind, which = regions
     parts = [  # (lo, hi, kind, index) for every covered stretch
         (lo, hi, k, w)
         for r_lo, r_hi, k, w in zip(rul, rur, kind, which, strict=True)
@@ -411,7 +415,9 @@ def _regions(pc: _pieces.Pieces) -> tuple[np.ndarray, ...]:
     return tuple(np.asarray(col) for col in zip(*rows, strict=True))
 
 
-def _cell_tables(pc: _pieces.Pieces, cells: int, tol: float) -> tuple[np.ndarray, ...]:
+def _cell_tables(
+    pc: _pieces.Pieces, regions: tuple[np.ndarray, ...], cells: int, tol: float
+) -> tuple[np.ndarray, ...]:
     """Per-cell coefficients in the local coordinate; NaN marks a slow cell.
 
     A cell ``[j/M, (j+1)/M)`` is fast when it lies inside one region: strictly
@@ -422,7 +428,7 @@ def _cell_tables(pc: _pieces.Pieces, cells: int, tol: float) -> tuple[np.ndarray
     idx = np.arange(cells + 1)
     lo = idx / cells
     hi = (idx + 1) / cells
-    rul, rur, kind, which = _regions(pc)
+    rul, rur, kind, which = regions
     r = np.minimum(np.searchsorted(rur, lo, side="left"), rur.size - 1)
     fast = (lo > rul[r]) & (hi <= rur[r]) & (idx < cells)
     # a cell ending exactly where an atom starts could round past the atom's x
