@@ -2,21 +2,26 @@
 
 A sketch is compiled once into lookup tables over ``u``:
 
-* a uniform grid of ``M`` cells over ``u`` (a power of two, so ``u M`` is
-  exact): cell ``j = floor(u M)`` holds a polynomial in the cell's local
-  coordinate ``τ = u M - j``, ``x = a + τ (b + τ (c + τ d))`` — the exact
-  inverse for linear pieces and atoms, a cubic through four exact inverse
-  points for monotone cubic pieces, accepted only where ``|u - F(x(u))| ≤
-  u_tolerance`` at test points inside the cell and ``x(u)`` is non-decreasing.
-  So a draw costs one index, four gathers and a Horner step (the guide-table
-  idea of Chen & Asau 1974 taken to one interval per cell);
+* a uniform grid of ``M`` cells over ``u`` (a power of two, so ``t = u M`` is
+  exact). For a sketch of linear pieces and atoms only, cell ``j = floor(t)``
+  holds its piece's line ``x = A + B t``: the closed-form inverse, rounded
+  (the result is the exact inverse at a ``u`` a few ulps away), so a draw costs
+  one cast, two gathers and a multiply-add. Otherwise the cell holds a
+  polynomial in its local coordinate ``τ = t - j``, ``x = a + τ (b + τ (c + τ
+  d))``: the exact inverse for linear pieces and atoms, a cubic through four
+  exact inverse points for monotone cubic pieces, accepted only where ``|u -
+  F(x(u))| ≤ u_tolerance`` at test points inside the cell and ``x(u)`` is
+  non-decreasing (the guide-table idea of Chen & Asau 1974 taken to one
+  interval per cell);
 * exponential tails are tabled the same way (cubics through exact points of
   their closed-form inverse, accepted under the same checks);
 * the few cells that hold a breakpoint (a knot's p, an atom, a tail's start)
   or fail the accuracy test (next to ``u = 0`` or ``1`` under an exponential
-  tail) have NaN coefficients; their draws are redone with right-closed
-  intervals ``(ul, ur]`` found by binary search, built the same way but halved
-  adaptively until they pass, and with the tails' closed forms.
+  tail) have NaN coefficients; their draws are collected and redone together
+  with right-closed intervals ``(ul, ur]`` found by binary search, built the
+  same way but halved adaptively until they pass, and with the tails' closed
+  forms. Each interval's ``x`` is kept at or below where the next one starts,
+  so ``x(u)`` never steps down.
 
 Draws are made in cache-sized chunks with fixed-size work buffers, so the
 extra memory is O(chunk), and since each value depends only on its own
@@ -28,6 +33,7 @@ Only numpy is imported here.
 from __future__ import annotations
 
 import math
+from collections.abc import Callable
 from typing import TYPE_CHECKING, Any
 
 import numpy as np
@@ -42,6 +48,8 @@ __all__ = ["Sampler"]
 
 #: Draws transformed per chunk (fits the work buffers in L2 cache).
 DEFAULT_CHUNK = 1 << 15
+#: Slow-cell draws collected before they are redone together.
+_SLOW_BATCH = 1 << 12
 _LOBATTO = (1.0 - 1.0 / math.sqrt(5.0)) / 2.0
 _FIT_TAU = np.array([0.0, _LOBATTO, 1.0 - _LOBATTO, 1.0])
 _FIT_INV = np.linalg.inv(np.vander(_FIT_TAU, 4, increasing=True))
@@ -59,8 +67,8 @@ class Sampler:
     sketch : Sketch
         The distribution to compile.
     u_tolerance : float, optional
-        Largest accepted ``|u - F(ppf(u))|`` for monotone cubic pieces (linear
-        pieces, atoms and tails are exact).
+        Largest accepted ``|u - F(ppf(u))|`` for monotone cubic pieces and
+        exponential tails (linear pieces and atoms are exact to rounding).
 
     Examples
     --------
@@ -73,16 +81,17 @@ class Sampler:
 
     __slots__ = (
         "_a",
+        "_affine",
         "_b",
         "_c",
         "_cells",
-        "_cubic",
         "_d",
         "_ia",
         "_ib",
         "_ic",
         "_id",
         "_ixmax",
+        "_ixmin",
         "_lower",
         "_p_high",
         "_p_low",
@@ -106,53 +115,105 @@ class Sampler:
         cells = _cell_count(int(np.sum(pc.nonlinear() & carries)), int(np.sum(carries)))
         self._cells = cells
         regions = _regions(pc)
-        self._a, self._b, self._c, self._d = _cell_tables(pc, regions, cells, tol)
-        self._cubic = bool(np.any(self._c != 0) or np.any(self._d != 0))
+        # linear pieces and atoms only: one line x = A + B (u M) per cell
+        tails = pc.lower is not None or pc.upper is not None
+        self._affine = not tails and not np.any(pc.nonlinear() & carries)
+        if self._affine:
+            self._a, self._b = _affine_tables(pc, regions, cells)
+            self._c = self._d = np.zeros(0)
+        else:
+            self._a, self._b, self._c, self._d = _cell_tables(pc, regions, cells, tol)
         self.n_slow_cells = int(np.isnan(self._a[:cells]).sum())
         # the slow path: exact or adaptive intervals over the slow cells only
-        ul, ur, coef = _body_intervals(pc, regions, tol, _slow_ranges(self._a, cells))
+        ul, ur, coef, bounds = _body_intervals(
+            pc, regions, tol, _slow_ranges(self._a, cells), affine=self._affine
+        )
         self._ul, self._ur = ul, ur
         self._ia, self._ib, self._ic, self._id = coef
-        # x is non-decreasing: no interval may end above where the next one starts (this
-        # keeps rounding from lifting x over a knot or an atom's position)
-        joined = np.r_[ul[1:] == ur[:-1], False]
-        self._ixmax = np.where(joined, np.r_[coef[0][1:], np.inf], np.inf)
+        self._ixmin = bounds[0]
+        if self._affine:
+            self._ixmax = bounds[1]
+        else:
+            # x is non-decreasing: no interval may end above where the next one starts (this
+            # keeps rounding from lifting x over a knot or an atom's position)
+            joined = np.r_[ul[1:] == ur[:-1], False]
+            self._ixmax = np.where(joined, np.r_[coef[0][1:], np.inf], np.inf)
         self.n_intervals = int(ul.size)
         self._lower, self._upper = pc.lower, pc.upper
         self._p_low, self._p_high = pc.p_low, pc.p_high
         self._support = _pieces.support(pc)
 
     # ------------------------------------------------------------ evaluation
-    def _transform(self, u: np.ndarray, out: np.ndarray, work: dict[str, np.ndarray]) -> None:
-        """Write ``ppf(u)`` into ``out`` (same length), using preallocated work buffers."""
-        n = u.size
-        t = work["t"][:n]
-        g = work["g"][:n]
-        j = work["j"][:n]
-        m = work["m"][:n]
-        np.multiply(u, self._cells, out=t)
+    def _table_values(self, t: np.ndarray, out: np.ndarray, g: np.ndarray, j: np.ndarray) -> None:
+        """Table values at the ``u`` held in ``t`` (scaled in place); NaN marks a slow cell."""
+        t *= self._cells  # exact: the cell count is a power of two
+        if self._affine:
+            # x = A + B t on every cell: one cast, two gathers, one multiply-add
+            np.copyto(j, t, casting="unsafe")
+            # indices are in range by construction: mode="clip" skips numpy's bounds check
+            np.take(self._b, j, out=out, mode="clip")
+            out *= t
+            out += np.take(self._a, j, out=g, mode="clip")
+            return
         np.modf(t, out=(t, g))  # t: the local coordinate in [0, 1); g: the cell, as a float
         np.copyto(j, g, casting="unsafe")
-        # indices are in range by construction: mode="clip" skips numpy's bounds check
-        if self._cubic:
-            np.take(self._d, j, out=out, mode="clip")
-            out *= t
-            out += np.take(self._c, j, out=g, mode="clip")
-            out *= t
-            out += np.take(self._b, j, out=g, mode="clip")
-        else:
-            np.take(self._b, j, out=out, mode="clip")
+        np.take(self._d, j, out=out, mode="clip")
+        out *= t
+        out += np.take(self._c, j, out=g, mode="clip")
+        out *= t
+        out += np.take(self._b, j, out=g, mode="clip")
         out *= t
         out += np.take(self._a, j, out=g, mode="clip")
-        if self.n_slow_cells:
-            np.isnan(out, out=m)
-            if m.any():
-                idx = np.flatnonzero(m)
-                out[idx] = self._slow_ppf(u[idx])
+
+    def _fill(self, out: np.ndarray, chunk: int, load: Callable[[np.ndarray, int], Any]) -> None:
+        """Write ``ppf`` of the uniforms that ``load(buffer, start)`` supplies into ``out``.
+
+        Fixed work buffers of ``chunk`` values; the draws that fall in slow
+        cells are collected (a few thousand at a time) and redone together, so
+        the slow path's fixed cost is paid rarely.
+        """
+        n = out.size
+        size = max(1, min(n, chunk))
+        t, g = np.empty(size), np.empty(size)
+        j = np.empty(size, dtype=np.intp)
+        slow = np.empty(size, dtype=bool)
+        where: list[np.ndarray] = []
+        which: list[np.ndarray] = []
+        pending = 0
+        for lo in range(0, n, chunk):
+            hi = min(lo + chunk, n)
+            tt, jj, part = t[: hi - lo], j[: hi - lo], out[lo:hi]
+            load(tt, lo)
+            self._table_values(tt, part, g[: hi - lo], jj)
+            if not self.n_slow_cells:
+                continue
+            idx = np.flatnonzero(np.isnan(part, out=slow[: hi - lo]))
+            if idx.size:
+                # the cell's uniform, recovered exactly (the cell count is a power of two)
+                u = tt[idx] if self._affine else tt[idx] + jj[idx]
+                which.append(u / self._cells)
+                where.append(idx + lo)
+                pending += idx.size
+                if pending >= _SLOW_BATCH:
+                    self._redo_slow(out, where, which)
+                    pending = 0
+        self._redo_slow(out, where, which)
+
+    def _redo_slow(self, out: np.ndarray, where: list[np.ndarray], which: list[np.ndarray]) -> None:
+        if where:
+            out[np.concatenate(where)] = self._slow_ppf(np.concatenate(which))
+            where.clear()
+            which.clear()
 
     def _slow_ppf(self, u: np.ndarray) -> np.ndarray:
         """The slow path: closed-form exponential tails, intervals by binary search."""
-        x = self._interval_ppf(u)
+        k = np.minimum(np.searchsorted(self._ur, u, side="left"), self._ur.size - 1)
+        if self._affine:  # the same formula as the fast cells of the same piece, kept inside it
+            x = self._ia[k] + self._ib[k] * u
+            return np.minimum(np.maximum(x, self._ixmin[k]), self._ixmax[k])
+        s = np.clip(u - self._ul[k], 0.0, None)
+        x = self._ia[k] + s * (self._ib[k] + s * (self._ic[k] + s * self._id[k]))
+        x = np.minimum(x, self._ixmax[k])
         if self._lower is not None:
             lo = u <= self._p_low
             if lo.any():
@@ -168,25 +229,10 @@ class Sampler:
                 x[hi] = tail.edge - tail.scale * np.log((1.0 - u[hi]) / tail.mass)
         return x
 
-    def _interval_ppf(self, u: np.ndarray) -> np.ndarray:
-        """The slow path: binary search over the intervals ``(ul, ur]``."""
-        k = np.minimum(np.searchsorted(self._ur, u, side="left"), self._ur.size - 1)
-        s = np.clip(u - self._ul[k], 0.0, None)
-        x = self._ia[k] + s * (self._ib[k] + s * (self._ic[k] + s * self._id[k]))
-        return np.minimum(x, self._ixmax[k])
-
-    def _work(self, n: int) -> dict[str, np.ndarray]:
-        return {
-            "t": np.empty(n),
-            "g": np.empty(n),
-            "j": np.empty(n, dtype=np.intp),
-            "m": np.empty(n, dtype=bool),
-        }
-
     def ppf(self, u: Any) -> Any:
         """Table inverse at probabilities ``u`` (e.g. Latin hypercube or Sobol points).
 
-        Exact for linear pieces and atoms; ``|u - cdf(ppf(u))| ≤ 1e-10`` for
+        Exact to rounding for linear pieces and atoms; ``|u - cdf(ppf(u))| ≤ 1e-10`` for
         monotone cubic pieces and exponential tails. ``ppf(0)``/``ppf(1)`` are the support's ends.
 
         Examples
@@ -200,11 +246,8 @@ class Sampler:
         arr, scalar = _as_probabilities(u)
         flat = np.ascontiguousarray(arr, dtype=float).ravel()
         out = np.empty(flat.size)
-        work = self._work(min(flat.size, DEFAULT_CHUNK))
         with np.errstate(divide="ignore", invalid="ignore"):  # u == 0 or 1, set below
-            for lo in range(0, flat.size, DEFAULT_CHUNK):
-                hi = min(lo + DEFAULT_CHUNK, flat.size)
-                self._transform(flat[lo:hi], out[lo:hi], work)
+            self._fill(out, DEFAULT_CHUNK, lambda buf, lo: np.copyto(buf, flat[lo : lo + buf.size]))
         out[flat == 0.0] = self._support[0]
         out[flat == 1.0] = self._support[1]
         out = out.reshape(arr.shape)
@@ -241,13 +284,7 @@ class Sampler:
         gen = np.random.default_rng(rng)
         n = math.prod(shape)
         out = np.empty(n)
-        u = np.empty(min(n, int(chunk)))
-        work = self._work(u.size)
-        for lo in range(0, n, int(chunk)):
-            hi = min(lo + int(chunk), n)
-            uu = u[: hi - lo]
-            gen.random(out=uu)
-            self._transform(uu, out[lo:hi], work)
+        self._fill(out, int(chunk), lambda buf, lo: gen.random(out=buf))
         if size is None:
             return float(out[0])
         return out.reshape(shape)
@@ -261,11 +298,17 @@ def _body_intervals(
     regions: tuple[np.ndarray, ...],
     tol: float,
     keep: np.ndarray | None = None,
-) -> tuple[np.ndarray, np.ndarray, tuple[np.ndarray, ...]]:
+    *,
+    affine: bool = False,
+) -> tuple[np.ndarray, np.ndarray, tuple[np.ndarray, ...], tuple[np.ndarray, np.ndarray]]:
     """Intervals ``(ul, ur]`` covering the body, or only its parts inside ``keep``.
 
     ``keep`` holds sorted, disjoint ``[lo, hi]`` ranges of ``u`` (the slow
-    cells); ``None`` covers the whole body ``(p_low, p_high]``.
+    cells); ``None`` covers the whole body ``(p_low, p_high]``. Returns
+    ``ul, ur``, the coefficients ``(a, b, c, d)`` of ``x`` in ``s = u - ul``
+    (with ``affine``, linear pieces get ``x = a + b u`` instead: the fast
+    cells' formula) and the bounds ``(x_lo, x_hi)`` of each interval's region
+    (infinite for cubic pieces, which keep their own order by ``_ixmax``).
     """
     rul, rur, kind, which = regions
     parts = [  # (lo, hi, kind, index) for every covered stretch
@@ -283,23 +326,36 @@ def _body_intervals(
     zeros = np.zeros(lo.size)
     a = np.r_[pc.xa, pc.x_end][np.where(k == 1, w, 0)]  # atoms: constant x
     b = zeros.copy()
+    x_lo, x_hi = a.copy(), a.copy()
     lin = np.flatnonzero(k == 2)
     if lin.size:
-        with np.errstate(over="ignore", divide="ignore"):
-            slope = pc.h[w[lin]] / pc.c[1, w[lin]]
-        b[lin] = np.where(np.isfinite(slope), slope, 0.0)  # ~1e-300 of mass: its left end
-        a[lin] = _pieces.invert_pieces(pc, w[lin], lo[lin])
+        x_lo[lin], x_hi[lin] = pc.xa[w[lin]], pc.xb[w[lin]]
+        a_line, b[lin] = _affine_line(pc, w[lin])
+        a[lin] = a_line if affine else _pieces.invert_pieces(pc, w[lin], lo[lin])
     simple = k != 3
-    blocks = [
-        np.vstack([lo[simple], hi[simple], a[simple], b[simple], zeros[simple], zeros[simple]])
-    ]
+    rows = (lo, hi, a, b, zeros, zeros, x_lo, x_hi)
+    blocks = [np.vstack([row[simple] for row in rows])]
     cub = np.flatnonzero(k == 3)
     if cub.size:
-        blocks.append(np.vstack(_cubic_intervals(pc, w[cub], lo[cub], hi[cub], tol)))
+        block = np.vstack(_cubic_intervals(pc, w[cub], lo[cub], hi[cub], tol))
+        unbounded = np.full((2, block.shape[1]), np.inf) * np.array([[-1.0], [1.0]])
+        blocks.append(np.vstack([block, unbounded]))
     block = np.concatenate(blocks, axis=1)
     block = block[:, np.argsort(block[0], kind="stable")]
-    cols = [block[i].copy() for i in range(6)]
-    return cols[0], cols[1], tuple(cols[2:])
+    cols = [block[i].copy() for i in range(8)]
+    return cols[0], cols[1], tuple(cols[2:6]), (cols[6], cols[7])
+
+
+def _affine_line(pc: _pieces.Pieces, w: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
+    """``x = a + b u`` on linear pieces ``w``: their exact inverse, in one multiply-add.
+
+    Rounding makes this the exact inverse at a ``u`` a few ulps away; a piece
+    too narrow in ``u`` for a finite slope (~1e-300 of mass) maps to its left end.
+    """
+    with np.errstate(over="ignore", divide="ignore"):
+        slope = pc.h[w] / pc.c[1, w]
+    slope = np.where(np.isfinite(slope), slope, 0.0)
+    return pc.xa[w] - pc.c[0, w] * slope, slope
 
 
 def _overlaps(lo: float, hi: float, keep: np.ndarray | None) -> list[tuple[float, float]]:
@@ -415,25 +471,63 @@ def _regions(pc: _pieces.Pieces) -> tuple[np.ndarray, ...]:
     return tuple(np.asarray(col) for col in zip(*rows, strict=True))
 
 
-def _cell_tables(
-    pc: _pieces.Pieces, regions: tuple[np.ndarray, ...], cells: int, tol: float
-) -> tuple[np.ndarray, ...]:
-    """Per-cell coefficients in the local coordinate; NaN marks a slow cell.
+def _fast_cells(regions: tuple[np.ndarray, ...], cells: int) -> tuple[np.ndarray, ...]:
+    """Each cell's ``u`` range, its region and whether it may be fast.
 
-    A cell ``[j/M, (j+1)/M)`` is fast when it lies inside one region: strictly
-    after the region's start (the inverse at ``u = ul`` belongs to the region
-    before, since intervals are right-closed) and not past its end. The extra
-    cell ``j = M`` (``u = 1``, ppf only) is always slow.
+    A cell ``[j/M, (j+1)/M)`` may be fast when it lies inside one region:
+    strictly after the region's start (the inverse at ``u = ul`` belongs to the
+    region before, since intervals are right-closed) and not past its end. The
+    extra cell ``j = M`` (``u = 1``, ppf only) is always slow.
     """
     idx = np.arange(cells + 1)
     lo = idx / cells
     hi = (idx + 1) / cells
-    rul, rur, kind, which = regions
+    rul, rur, kind, _ = regions
     r = np.minimum(np.searchsorted(rur, lo, side="left"), rur.size - 1)
     fast = (lo > rul[r]) & (hi <= rur[r]) & (idx < cells)
     # a cell ending exactly where an atom starts could round past the atom's x
     next_kind = np.r_[kind[1:], -1][r]
     fast &= ~((hi == rur[r]) & (next_kind == 1))
+    return lo, hi, r, fast
+
+
+def _affine_tables(
+    pc: _pieces.Pieces, regions: tuple[np.ndarray, ...], cells: int
+) -> tuple[np.ndarray, np.ndarray]:
+    """Per-cell ``x = A + B t``, ``t = u M``, for sketches of linear pieces and atoms.
+
+    Every cell of a piece carries the piece's own line, so ``x`` is monotone
+    across its cells and the slow path (the same line, clipped to the piece)
+    joins on without a step. A cell whose rounded ends would leave the piece
+    stays slow; NaN marks slow cells.
+    """
+    _, _, r, fast = _fast_cells(regions, cells)
+    kind, which = regions[2][r], regions[3][r]
+    a = np.full(cells + 1, np.nan)
+    b = np.zeros(cells + 1)
+    sel = fast & (kind == 1)
+    a[sel] = np.r_[pc.xa, pc.x_end][which[sel]]
+    sel = np.flatnonzero(fast & (kind == 2))
+    w = which[sel]
+    a_line, slope = _affine_line(pc, w)
+    b_cell = slope / cells  # exact: a power of two
+    start = sel.astype(float)
+    inside = (a_line + b_cell * start >= pc.xa[w]) & (a_line + b_cell * (start + 1) <= pc.xb[w])
+    a[sel[inside]] = a_line[inside]
+    b[sel[inside]] = b_cell[inside]
+    return a, b
+
+
+def _cell_tables(
+    pc: _pieces.Pieces, regions: tuple[np.ndarray, ...], cells: int, tol: float
+) -> tuple[np.ndarray, ...]:
+    """Per-cell coefficients in the local coordinate; NaN marks a slow cell.
+
+    Fast cells are those of :func:`_fast_cells` whose polynomial passes the
+    accuracy checks.
+    """
+    lo, hi, r, fast = _fast_cells(regions, cells)
+    _, _, kind, which = regions
     a = np.full(cells + 1, np.nan)
     b = np.zeros(cells + 1)
     c = np.zeros(cells + 1)

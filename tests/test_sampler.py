@@ -69,5 +69,56 @@ def test_lower_exponential_tail_handles_u_zero():
     assert fast.ppf(0.0) == -np.inf  # the support's end, by definition
     # a draw of exactly u = 0 (probability 2^-53) maps to a finite value far in the tail
     x = np.empty(1)
-    fast._transform(np.zeros(1), x, fast._work(1))
+    fast._fill(x, 1, lambda buf, lo: buf.fill(0.0))  # as sample() does, with u = 0
     assert np.isfinite(x[0]) and x[0] < -10
+
+
+AFFINE_CASES = [
+    # knots exactly on cell edges (a 3-piece sketch has 4096 cells)
+    Sketch([0, 1, 2, 5], [0, 1024 / 4096, 3072 / 4096, 1]),
+    # atoms, one of them exactly on a cell edge
+    Sketch([0, 1, 1, 2, 2, 3], [0, 0.25, 0.5, 0.6, 0.6 + 2**-12, 1]),
+    # a steep piece near x = 0 at high u: A = x0 - p0 * slope cancels heavily
+    Sketch([-1, -1e-3, 1e-3, 1], [0, 0.9, 0.9 + 1e-7, 1]),
+    # far from zero, narrow in x
+    Sketch([1e6, 1e6 + 1e-3, 1e6 + 2e-3], [0, 0.3, 1]),
+    # an atom ending one ulp below a cell edge: the next cell's rounded start would fall
+    # below the atom, so that cell must stay on the slow path (found by a search over edges)
+    Sketch([-0.9, 0.1, 0.1, 1.1], [0, 0.3, float(np.nextafter(1401 / 4096, 0)), 1]),
+    # many knots, uneven spacing
+    Sketch(
+        np.cumsum(np.r_[0, np.random.default_rng(4).uniform(1e-3, 3, 499)]), np.linspace(0, 1, 500)
+    ),
+]
+
+
+@pytest.mark.parametrize("index", range(len(AFFINE_CASES)))
+def test_linear_sketches_sample_their_exact_inverse_to_rounding(index):
+    # The fast path for linear sketches evaluates x = A + B u per piece: the exact inverse,
+    # rounded. Bound: a few rounding errors of that formula, eps (|x| + |x0| + u / density)
+    # (standard floating-point error analysis of a multiply-add; Higham 2002, sec. 2.2)
+    s = AFFINE_CASES[index]
+    fast = s.sampler()
+    assert fast._affine
+    cells = fast._cells
+    edges = np.arange(cells + 1) / cells
+    u = np.r_[
+        np.random.default_rng(index).random(100_000),
+        edges,
+        np.nextafter(edges, 0),
+        s.p,
+        np.nextafter(s.p, 0),
+        np.nextafter(s.p, 1),
+    ]
+    u = np.sort(u[(u >= 0) & (u <= 1)])
+    x = fast.ppf(u)
+    exact = s.ppf(u)
+    scale = np.abs(x) + np.abs(s.x).max() + u / np.maximum(s.pdf(x), 1e-300)
+    inner = (u > 0) & (u < 1) & (s.pdf(x) > 0)
+    assert np.all(np.abs(x - exact)[inner] <= 8 * np.finfo(float).eps * scale[inner])
+    for atom in s.atoms:  # draws strictly inside an atom's jump land on its own x
+        jump = (u > s.cdf(np.nextafter(atom.x, -np.inf))) & (u < s.cdf(atom.x))
+        assert jump.sum() > 10 and np.all(x[jump] == atom.x)
+    assert np.all(np.diff(x) >= 0)  # monotone across cells and pieces
+    lo, hi = s.support
+    assert np.all((x >= lo) & (x <= hi))
