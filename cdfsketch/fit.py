@@ -17,10 +17,7 @@ scipy is imported inside this module (never by the core).
 
 from __future__ import annotations
 
-import importlib.util
 import math
-import sys
-import time
 import warnings
 from collections.abc import Callable, Iterable, Mapping, Sequence
 from dataclasses import dataclass, field
@@ -28,6 +25,7 @@ from typing import Any, Literal
 
 import numpy as np
 
+from ._progress import Progress, ProgressCallback
 from .empirical import DataError, as_data
 from .metrics import ComparisonTable, compare
 
@@ -44,7 +42,6 @@ __all__ = [
 ]
 
 ArrayLike = Any
-ProgressCallback = Callable[[int, int, str], Any]
 
 #: Default families, in the order they are fitted.
 FAMILIES: tuple[str, ...] = (
@@ -72,6 +69,10 @@ _KDE_EXACT_MAX = 2000
 _KDE_BINS_PER_H = 16
 #: kernels further than this many bandwidths away are dropped (Φ(-8.5) < 1e-17)
 _KDE_CUT = 8.5
+#: a binned KDE tables its cdf at this many nodes per bandwidth (see _KDEModel) ...
+_KDE_TABLE_PER_H = 128
+#: ... unless that takes more nodes than this (then each value is summed directly)
+_KDE_TABLE_MAX = 1 << 19
 
 
 # ====================================================================== models
@@ -221,11 +222,42 @@ class _MixtureModel(_Model):
 
 
 class _KDEModel(_Model):
-    """Gaussian KDE: weighted centres ``c`` (sorted), bandwidth ``h``."""
+    """Gaussian KDE: weighted centres ``c`` (sorted), bandwidth ``h``.
+
+    A binned KDE (``window`` set) also tables its cdf: exact values and
+    densities at nodes ``Δ = h / 128`` apart, read back by cubic Hermite
+    interpolation. Its error is at most ``max|F⁗| Δ⁴ / 384``, and ``F⁗`` is
+    the density's third derivative, below ``0.56 / h⁴`` for a Gaussian kernel:
+    about 5e-12, far below the binning's own 1e-3 relative change. Judging a
+    candidate evaluates its cdf at ~10⁶ points, which would otherwise cost a
+    window of ~270 kernels each.
+    """
 
     def __init__(self, c: np.ndarray, w: np.ndarray, h: float, window: int | None) -> None:
         self.c, self.w, self.h, self.window = c, w, h, window
         self.cum = np.concatenate(([0.0], np.cumsum(w)))
+        self.table: tuple[float, float, np.ndarray, np.ndarray] | None = None
+        step = h / _KDE_TABLE_PER_H
+        lo, hi = float(c[0] - _KDE_CUT * h), float(c[-1] + _KDE_CUT * h)
+        nodes = math.ceil((hi - lo) / step) + 1
+        if window is not None and nodes <= _KDE_TABLE_MAX:
+            from scipy.special import ndtr
+
+            grid = lo + step * np.arange(nodes)
+            values = np.clip(self._each(grid, ndtr, True), 0.0, 1.0)
+            self.table = (lo, step, values, self.pdf(grid) * step)
+
+    def _hermite(self, x: np.ndarray) -> np.ndarray:
+        """The tabled cdf: cubic Hermite through node values and slopes."""
+        assert self.table is not None
+        lo, step, values, slopes = self.table
+        s = np.clip((np.asarray(x, dtype=float) - lo) / step, 0.0, values.size - 1.0)
+        i = np.minimum(s.astype(np.intp), values.size - 2)
+        t = s - i
+        f0, f1, d0, d1 = values[i], values[i + 1], slopes[i], slopes[i + 1]
+        t1 = 1.0 - t
+        out = t1 * t1 * ((1.0 + 2.0 * t) * f0 + t * d0) + t * t * ((3.0 - 2.0 * t) * f1 - t1 * d1)
+        return np.clip(out, 0.0, 1.0)
 
     def _each(self, x: np.ndarray, kernel: Callable[[np.ndarray], np.ndarray], below: bool):
         """Σ_j w_j kernel((x - c_j)/h), adding the mass of far-left centres when ``below``."""
@@ -255,6 +287,8 @@ class _KDEModel(_Model):
     def cdf(self, x: np.ndarray) -> np.ndarray:
         from scipy.special import ndtr
 
+        if self.table is not None:
+            return self._hermite(x)
         return np.clip(self._each(x, ndtr, True), 0.0, 1.0)
 
     def sf(self, x: np.ndarray) -> np.ndarray:
@@ -963,55 +997,6 @@ def _fit_kde(x: np.ndarray, rule: str) -> Candidate:
     )
 
 
-# ====================================================================== progress
-def _in_notebook() -> bool:
-    shell = sys.modules.get("IPython")
-    if shell is None:
-        return False
-    try:
-        ip = shell.get_ipython()  # type: ignore[attr-defined]
-    except AttributeError:
-        return False
-    return ip is not None and type(ip).__name__ == "ZMQInteractiveShell"
-
-
-class _Progress:
-    """Reports steps to a callable, or to an ipywidgets bar shown after 1 s in a notebook."""
-
-    def __init__(self, progress: Any, total: int) -> None:
-        if progress is not None and progress is not False and not callable(progress):
-            raise TypeError(
-                f"progress must be None (automatic), False (off) or a callable "
-                f"progress(done, total, label); got {type(progress).__name__}."
-            )
-        self.total = total
-        self.call = progress if callable(progress) else None
-        self.auto = progress is None and _in_notebook()
-        self.start = time.perf_counter()
-        self.bar: Any = None
-
-    def __call__(self, done: int, label: str) -> None:
-        if self.call is not None:
-            self.call(done, self.total, label)
-            return
-        if not self.auto:
-            return
-        if self.bar is None and time.perf_counter() - self.start > 1.0:
-            if importlib.util.find_spec("ipywidgets") is None:
-                self.auto = False
-                return
-            import ipywidgets
-            from IPython.display import display
-
-            self.bar = ipywidgets.IntProgress(min=0, max=self.total, description="fitting")
-            display(self.bar)
-        if self.bar is not None:
-            self.bar.value = done
-            self.bar.description = label[:20]
-            if done >= self.total:
-                self.bar.close()
-
-
 # ====================================================================== driver
 def fit_candidates(
     data: ArrayLike,
@@ -1104,7 +1089,7 @@ def fit_candidates(
         raise ValueError(f"kde must be True, False, 'scott' or 'silverman'; got {kde!r}.")
     gen = np.random.default_rng(rng)
     total = len(fams) + len(ks) + (rule is not None)
-    report = _Progress(progress, total)
+    report = Progress(progress, total, title="fitting")
     out = CandidateList()
     done = 0
     for f in fams:

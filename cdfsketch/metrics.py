@@ -31,6 +31,7 @@ from typing import Any
 
 import numpy as np
 
+from ._progress import Progress, ProgressCallback
 from .empirical import ECDF, as_data
 
 __all__ = [
@@ -654,6 +655,7 @@ def compare(
     holdout: float | None = 0.3,
     level: float = 0.95,
     rng: Any = None,
+    progress: ProgressCallback | bool | None = None,
 ) -> ComparisonTable:
     """Judge candidates against data: distances, scores and a held-out check.
 
@@ -702,6 +704,11 @@ def compare(
         Coverage of the DKW band.
     rng : optional
         Seed for the split and the refits.
+    progress : None, False or callable
+        ``None``: a progress bar in a Jupyter kernel once the work has taken
+        more than a second (ipywidgets, only if importable); ``False``: none;
+        a callable is called as ``progress(done, total, label)`` after each
+        candidate is scored.
 
     Returns
     -------
@@ -729,6 +736,7 @@ def compare(
     models = [_as_scored(c, i) for i, c in enumerate(candidates)]
     if not models:
         raise ValueError("candidates is empty; pass at least one model to compare.")
+    report = Progress(progress, len(models), title="scoring")
     band = ECDF(y).band(level=level)
     gen = np.random.default_rng(rng)
     n_test = 0
@@ -788,6 +796,7 @@ def compare(
                 if p_ok and hm.continuous:
                     row["ks_holdout_pvalue"] = float(st.ks_1samp(test, hm.cdf).pvalue)
         rows.append(row)
+        report(len(rows), m.label)
     info = {
         "n": n,
         "n_train": n - n_test,

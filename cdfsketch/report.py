@@ -249,6 +249,9 @@ class Review:
         Fraction of the data held out by :func:`cdfsketch.fit.compare`.
     rng : optional
         Seed for the holdout split and refits (``np.random.default_rng``).
+    progress : None, False or callable
+        Progress of scoring the candidates against the data; see
+        :func:`cdfsketch.fit.compare`.
 
     Examples
     --------
@@ -273,6 +276,7 @@ class Review:
         name: str = "",
         holdout: float | None = 0.3,
         rng: Any = None,
+        progress: Any = None,
     ) -> None:
         _text(units, "units")
         _text(name, "name")
@@ -312,6 +316,7 @@ class Review:
                 holdout=holdout,
                 level=self.level,
                 rng=rng,
+                progress=progress,
             )
             for row, c in zip(table.rows, self.candidates, strict=True):
                 row["name"] = c.name

@@ -211,6 +211,40 @@ def test_kde_binned_close_to_scipy():
     assert np.allclose(ours.cdf(ours.ppf(u)), u, atol=1e-12)
 
 
+@pytest.mark.parametrize(
+    "x",
+    [
+        np.random.default_rng(5).gamma(2.0, 3.0, 30_000),  # invented, seeded
+        np.random.default_rng(6).lognormal(0.0, 1.5, 5000),
+        np.random.default_rng(7).standard_cauchy(3000),
+    ],
+)
+def test_binned_kde_cdf_table_within_the_hermite_error_bound(x, monkeypatch):
+    from scipy.special import ndtr
+
+    from cdfsketch import fit as fit_module
+
+    model = fit_kde(x)._model
+    assert model.table is not None
+    h = model.h
+    pts = np.r_[
+        np.random.default_rng(0).uniform(model.c[0] - 10 * h, model.c[-1] + 10 * h, 100_000),
+        model.c,
+        model.c + 0.5 * h / 128,
+    ]
+    exact = np.clip(model._each(pts, ndtr, True), 0.0, 1.0)
+    # cubic Hermite error <= max|F⁗| step⁴ / 384 (Burden & Faires, Numerical Analysis,
+    # Thm 3.9, from memory); F⁗ is the density's third derivative, at most
+    # max|φ‴| / h⁴ with max|φ‴| = max |z³ - 3z| φ(z) = 0.5506 (computed, near z = 0.74)
+    bound = 0.5506 / 128**4 / 384
+    assert np.max(np.abs(model.cdf(pts) - exact)) <= bound + 1e-15
+    # too many nodes for a table: each value is summed directly
+    monkeypatch.setattr(fit_module, "_KDE_TABLE_MAX", 10)
+    direct = fit_kde(x)._model
+    assert direct.table is None
+    np.testing.assert_array_equal(direct.cdf(pts), exact)
+
+
 def test_kde_sample_is_smoothed_bootstrap():
     x = np.random.default_rng(8).normal(size=200)
     k = fit_kde(x)

@@ -60,6 +60,9 @@ class ReviewBoard(widgets.VBox):
         Fraction held out by :func:`cdfsketch.fit.compare` for the table.
     rng : optional
         Seed for the holdout split (``np.random.default_rng``).
+    progress : None, False or callable
+        Progress of scoring the candidates against the data; see
+        :func:`cdfsketch.fit.compare`.
 
     Examples
     --------
@@ -82,9 +85,17 @@ class ReviewBoard(widgets.VBox):
         name: str = "",
         holdout: float | None = 0.3,
         rng: Any = None,
+        progress: Any = None,
     ) -> None:
         self._review = Review(
-            data, candidates, level=level, units=units, name=name, holdout=holdout, rng=rng
+            data,
+            candidates,
+            level=level,
+            units=units,
+            name=name,
+            holdout=holdout,
+            rng=rng,
+            progress=progress,
         )
         r = self._review
         lo, hi = x_range(r)
