@@ -2,17 +2,16 @@
 
 A sketch is compiled once into lookup tables over ``u``:
 
-* a uniform grid of ``M`` cells over ``u`` (a power of two, so ``t = u M`` is
-  exact). For a sketch of linear pieces and atoms only, cell ``j = floor(t)``
-  holds its piece's line ``x = A + B t``: the closed-form inverse, rounded
-  (the result is the exact inverse at a ``u`` a few ulps away), so a draw costs
-  one cast, two gathers and a multiply-add. Otherwise the cell holds a
-  polynomial in its local coordinate ``τ = t - j``, ``x = a + τ (b + τ (c + τ
-  d))``: the exact inverse for linear pieces and atoms, a cubic through four
-  exact inverse points for monotone cubic pieces, accepted only where ``|u -
-  F(x(u))| ≤ u_tolerance`` at test points inside the cell and ``x(u)`` is
-  non-decreasing (the guide-table idea of Chen & Asau 1974 taken to one
-  interval per cell);
+* a uniform grid of ``M`` cells over ``u`` (a power of two, so ``u M`` is
+  exact): cell ``j = floor(u M)`` holds a polynomial in the cell's local
+  coordinate ``τ = u M - j``, ``x = a + τ (b + τ (c + τ d))`` — the exact
+  inverse for linear pieces and atoms (``a`` the exact value at the cell's
+  start, ``b`` the step to its end), a cubic through
+  four exact inverse points for monotone cubic pieces, accepted only where
+  ``|u - F(x(u))| ≤ u_tolerance`` at test points inside the cell and ``x(u)``
+  is non-decreasing. So a draw costs a cast, a subtraction, two gathers and a
+  multiply-add (four gathers and a Horner step with cubic cells): the
+  guide-table idea of Chen & Asau 1974 taken to one interval per cell;
 * exponential tails are tabled the same way (cubics through exact points of
   their closed-form inverse, accepted under the same checks);
 * the few cells that hold a breakpoint (a knot's p, an atom, a tail's start)
@@ -20,8 +19,9 @@ A sketch is compiled once into lookup tables over ``u``:
   tail) have NaN coefficients; their draws are collected and redone together
   with right-closed intervals ``(ul, ur]`` found by binary search, built the
   same way but halved adaptively until they pass, and with the tails' closed
-  forms. Each interval's ``x`` is kept at or below where the next one starts,
-  so ``x(u)`` never steps down.
+  forms. Linear pieces are inverted there by the closed form the cells were
+  built from, and other intervals kept at or below where the next one
+  starts, so ``x(u)`` never steps down.
 
 Draws are made in cache-sized chunks with fixed-size work buffers, so the
 extra memory is O(chunk), and since each value depends only on its own
@@ -81,17 +81,19 @@ class Sampler:
 
     __slots__ = (
         "_a",
-        "_affine",
         "_b",
         "_c",
         "_cells",
+        "_closed",
+        "_closed_rows",
+        "_cubic",
         "_d",
+        "_edges",
         "_ia",
         "_ib",
         "_ic",
         "_id",
         "_ixmax",
-        "_ixmin",
         "_lower",
         "_p_high",
         "_p_low",
@@ -115,29 +117,38 @@ class Sampler:
         cells = _cell_count(int(np.sum(pc.nonlinear() & carries)), int(np.sum(carries)))
         self._cells = cells
         regions = _regions(pc)
-        # linear pieces and atoms only: one line x = A + B (u M) per cell
-        tails = pc.lower is not None or pc.upper is not None
-        self._affine = not tails and not np.any(pc.nonlinear() & carries)
-        if self._affine:
-            self._a, self._b = _affine_tables(pc, regions, cells)
-            self._c = self._d = np.zeros(0)
-        else:
-            self._a, self._b, self._c, self._d = _cell_tables(pc, regions, cells, tol)
+        self._a, self._b, self._c, self._d = _cell_tables(pc, regions, cells, tol)
+        # the exact inverse at every cell edge: each cell's values must lie between its two
+        # edges' (then x(u) never steps down from one cell to the next); a fast cell whose
+        # rounded ends do not is made slow, and the slow path clips to them
+        edges = _pieces.ppf(pc, np.arange(cells + 1) / cells)
+        self._edges = np.r_[edges, edges[-1]]  # the extra cell j = M (u = 1) ends there too
+        _keep_between_edges(self._a, self._b, self._c, self._d, self._edges)
+        self._cubic = bool(np.any(self._c != 0) or np.any(self._d != 0))
+        if not self._cubic:
+            self._c = self._d = np.zeros(0)  # not read: no need to keep them
         self.n_slow_cells = int(np.isnan(self._a[:cells]).sum())
         # the slow path: exact or adaptive intervals over the slow cells only
-        ul, ur, coef, bounds = _body_intervals(
-            pc, regions, tol, _slow_ranges(self._a, cells), affine=self._affine
-        )
+        ul, ur, coef, kind, w = _body_intervals(pc, regions, tol, _slow_ranges(self._a, cells))
         self._ul, self._ur = ul, ur
         self._ia, self._ib, self._ic, self._id = coef
-        self._ixmin = bounds[0]
-        if self._affine:
-            self._ixmax = bounds[1]
-        else:
-            # x is non-decreasing: no interval may end above where the next one starts (this
-            # keeps rounding from lifting x over a knot or an atom's position)
-            joined = np.r_[ul[1:] == ur[:-1], False]
-            self._ixmax = np.where(joined, np.r_[coef[0][1:], np.inf], np.inf)
+        # atoms and linear pieces are inverted there by the closed form the cells were built
+        # from (_pieces.invert_pieces, same arithmetic): monotone in u, so slow and fast draws
+        # keep their order; an atom is a piece of zero width
+        lin = kind == 2
+        piece = np.where(lin, w, 0)
+        self._closed = kind != 3
+        self._closed_rows = (
+            np.where(lin, pc.xa[piece], coef[0]),
+            np.where(lin, pc.h[piece], 0.0),
+            np.where(lin, pc.c[0, piece], 0.0),
+            np.where(lin, pc.c[1, piece], 1.0),
+            np.where(lin, pc.xb[piece], coef[0]),
+        )
+        # x is non-decreasing: no interval may end above where the next one starts (this
+        # keeps rounding from lifting x over a knot or an atom's position)
+        joined = np.r_[ul[1:] == ur[:-1], False]
+        self._ixmax = np.where(joined, np.r_[coef[0][1:], np.inf], np.inf)
         self.n_intervals = int(ul.size)
         self._lower, self._upper = pc.lower, pc.upper
         self._p_low, self._p_high = pc.p_low, pc.p_high
@@ -145,23 +156,23 @@ class Sampler:
 
     # ------------------------------------------------------------ evaluation
     def _table_values(self, t: np.ndarray, out: np.ndarray, g: np.ndarray, j: np.ndarray) -> None:
-        """Table values at the ``u`` held in ``t`` (scaled in place); NaN marks a slow cell."""
-        t *= self._cells  # exact: the cell count is a power of two
-        if self._affine:
-            # x = A + B t on every cell: one cast, two gathers, one multiply-add
-            np.copyto(j, t, casting="unsafe")
-            # indices are in range by construction: mode="clip" skips numpy's bounds check
-            np.take(self._b, j, out=out, mode="clip")
+        """Table values at the ``u`` held in ``t``; NaN marks a slow cell.
+
+        On return ``j`` holds each draw's cell and ``t`` its local coordinate
+        ``τ = u M - j`` (exact: the cell count is a power of two).
+        """
+        t *= self._cells
+        np.copyto(j, t, casting="unsafe")  # truncation: the cell, as u M >= 0
+        np.subtract(t, j, out=t)  # the local coordinate in [0, 1)
+        # indices are in range by construction: mode="clip" skips numpy's bounds check
+        if self._cubic:
+            np.take(self._d, j, out=out, mode="clip")
             out *= t
-            out += np.take(self._a, j, out=g, mode="clip")
-            return
-        np.modf(t, out=(t, g))  # t: the local coordinate in [0, 1); g: the cell, as a float
-        np.copyto(j, g, casting="unsafe")
-        np.take(self._d, j, out=out, mode="clip")
-        out *= t
-        out += np.take(self._c, j, out=g, mode="clip")
-        out *= t
-        out += np.take(self._b, j, out=g, mode="clip")
+            out += np.take(self._c, j, out=g, mode="clip")
+            out *= t
+            out += np.take(self._b, j, out=g, mode="clip")
+        else:
+            np.take(self._b, j, out=out, mode="clip")
         out *= t
         out += np.take(self._a, j, out=g, mode="clip")
 
@@ -185,13 +196,10 @@ class Sampler:
             tt, jj, part = t[: hi - lo], j[: hi - lo], out[lo:hi]
             load(tt, lo)
             self._table_values(tt, part, g[: hi - lo], jj)
-            if not self.n_slow_cells:
-                continue
             idx = np.flatnonzero(np.isnan(part, out=slow[: hi - lo]))
             if idx.size:
-                # the cell's uniform, recovered exactly (the cell count is a power of two)
-                u = tt[idx] if self._affine else tt[idx] + jj[idx]
-                which.append(u / self._cells)
+                # the draw's uniform, recovered exactly (the cell count is a power of two)
+                which.append((tt[idx] + jj[idx]) / self._cells)
                 where.append(idx + lo)
                 pending += idx.size
                 if pending >= _SLOW_BATCH:
@@ -208,12 +216,14 @@ class Sampler:
     def _slow_ppf(self, u: np.ndarray) -> np.ndarray:
         """The slow path: closed-form exponential tails, intervals by binary search."""
         k = np.minimum(np.searchsorted(self._ur, u, side="left"), self._ur.size - 1)
-        if self._affine:  # the same formula as the fast cells of the same piece, kept inside it
-            x = self._ia[k] + self._ib[k] * u
-            return np.minimum(np.maximum(x, self._ixmin[k]), self._ixmax[k])
-        s = np.clip(u - self._ul[k], 0.0, None)
-        x = self._ia[k] + s * (self._ib[k] + s * (self._ic[k] + s * self._id[k]))
-        x = np.minimum(x, self._ixmax[k])
+        closed = self._closed[k]
+        if closed.all():
+            x = self._closed_form(k, u)
+        else:
+            s = np.clip(u - self._ul[k], 0.0, None)
+            x = self._ia[k] + s * (self._ib[k] + s * (self._ic[k] + s * self._id[k]))
+            x = np.minimum(x, self._ixmax[k])
+            x[closed] = self._closed_form(k[closed], u[closed])
         if self._lower is not None:
             lo = u <= self._p_low
             if lo.any():
@@ -227,7 +237,13 @@ class Sampler:
             if hi.any():
                 tail = self._upper
                 x[hi] = tail.edge - tail.scale * np.log((1.0 - u[hi]) / tail.mass)
-        return x
+        cell = (u * self._cells).astype(np.intp)  # exact, and truncation is floor here
+        return np.minimum(np.maximum(x, self._edges[cell]), self._edges[cell + 1])
+
+    def _closed_form(self, k: np.ndarray, u: np.ndarray) -> np.ndarray:
+        """``invert_pieces``' closed form on the atom and linear-piece intervals ``k``."""
+        xa, h, c0, c1, xb = (row[k] for row in self._closed_rows)
+        return np.minimum(xa + h * np.clip((u - c0) / c1, 0.0, 1.0), xb)
 
     def ppf(self, u: Any) -> Any:
         """Table inverse at probabilities ``u`` (e.g. Latin hypercube or Sobol points).
@@ -298,17 +314,14 @@ def _body_intervals(
     regions: tuple[np.ndarray, ...],
     tol: float,
     keep: np.ndarray | None = None,
-    *,
-    affine: bool = False,
-) -> tuple[np.ndarray, np.ndarray, tuple[np.ndarray, ...], tuple[np.ndarray, np.ndarray]]:
+) -> tuple[np.ndarray, np.ndarray, tuple[np.ndarray, ...], np.ndarray, np.ndarray]:
     """Intervals ``(ul, ur]`` covering the body, or only its parts inside ``keep``.
 
     ``keep`` holds sorted, disjoint ``[lo, hi]`` ranges of ``u`` (the slow
     cells); ``None`` covers the whole body ``(p_low, p_high]``. Returns
     ``ul, ur``, the coefficients ``(a, b, c, d)`` of ``x`` in ``s = u - ul``
-    (with ``affine``, linear pieces get ``x = a + b u`` instead: the fast
-    cells' formula) and the bounds ``(x_lo, x_hi)`` of each interval's region
-    (infinite for cubic pieces, which keep their own order by ``_ixmax``).
+    (for atoms and linear pieces: their value at ``ul`` and slope), and each
+    interval's region kind and index (see :func:`_regions`).
     """
     rul, rur, kind, which = regions
     parts = [  # (lo, hi, kind, index) for every covered stretch
@@ -326,36 +339,24 @@ def _body_intervals(
     zeros = np.zeros(lo.size)
     a = np.r_[pc.xa, pc.x_end][np.where(k == 1, w, 0)]  # atoms: constant x
     b = zeros.copy()
-    x_lo, x_hi = a.copy(), a.copy()
     lin = np.flatnonzero(k == 2)
     if lin.size:
-        x_lo[lin], x_hi[lin] = pc.xa[w[lin]], pc.xb[w[lin]]
-        a_line, b[lin] = _affine_line(pc, w[lin])
-        a[lin] = a_line if affine else _pieces.invert_pieces(pc, w[lin], lo[lin])
+        with np.errstate(over="ignore", divide="ignore"):
+            slope = pc.h[w[lin]] / pc.c[1, w[lin]]
+        b[lin] = np.where(np.isfinite(slope), slope, 0.0)  # < 1e-200 of mass: its left end
+        a[lin] = _pieces.invert_pieces(pc, w[lin], lo[lin])
     simple = k != 3
-    rows = (lo, hi, a, b, zeros, zeros, x_lo, x_hi)
+    rows = (lo, hi, a, b, zeros, zeros, k, w)
     blocks = [np.vstack([row[simple] for row in rows])]
     cub = np.flatnonzero(k == 3)
     if cub.size:
         block = np.vstack(_cubic_intervals(pc, w[cub], lo[cub], hi[cub], tol))
-        unbounded = np.full((2, block.shape[1]), np.inf) * np.array([[-1.0], [1.0]])
-        blocks.append(np.vstack([block, unbounded]))
+        kind = np.full((1, block.shape[1]), 3.0)
+        blocks.append(np.vstack([block, kind, np.zeros_like(kind)]))  # index unused
     block = np.concatenate(blocks, axis=1)
     block = block[:, np.argsort(block[0], kind="stable")]
     cols = [block[i].copy() for i in range(8)]
-    return cols[0], cols[1], tuple(cols[2:6]), (cols[6], cols[7])
-
-
-def _affine_line(pc: _pieces.Pieces, w: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
-    """``x = a + b u`` on linear pieces ``w``: their exact inverse, in one multiply-add.
-
-    Rounding makes this the exact inverse at a ``u`` a few ulps away; a piece
-    too narrow in ``u`` for a finite slope (~1e-300 of mass) maps to its left end.
-    """
-    with np.errstate(over="ignore", divide="ignore"):
-        slope = pc.h[w] / pc.c[1, w]
-    slope = np.where(np.isfinite(slope), slope, 0.0)
-    return pc.xa[w] - pc.c[0, w] * slope, slope
+    return cols[0], cols[1], tuple(cols[2:6]), cols[6].astype(np.intp), cols[7].astype(np.intp)
 
 
 def _overlaps(lo: float, hi: float, keep: np.ndarray | None) -> list[tuple[float, float]]:
@@ -439,12 +440,14 @@ def _cell_count(cubic_pieces: int, pieces: int) -> int:
     """Cells ``M`` of the uniform grid: a power of two, so ``u M`` is exact.
 
     About 512 cells per monotone cubic piece (4096 to 16384), or 128 per piece
-    otherwise (4096 to 65536): enough that few cells hold a breakpoint or
-    fail the accuracy test, few enough to compile in milliseconds.
+    otherwise (4096 to 131072): enough that few cells hold a breakpoint or
+    fail the accuracy test, few enough to compile in milliseconds. (Measured
+    for 1000 linear pieces, tests/bench/bench_sampler.py: 2^17 cells sample
+    slightly faster than 2^16 despite the larger tables, 2^15 clearly slower.)
     """
     if cubic_pieces:
         return 1 << min(14, max(12, math.ceil(math.log2(512 * cubic_pieces))))
-    return 1 << min(16, max(12, math.ceil(math.log2(128 * (pieces + 2)))))
+    return 1 << min(17, max(12, math.ceil(math.log2(128 * (pieces + 2)))))
 
 
 def _regions(pc: _pieces.Pieces) -> tuple[np.ndarray, ...]:
@@ -491,33 +494,6 @@ def _fast_cells(regions: tuple[np.ndarray, ...], cells: int) -> tuple[np.ndarray
     return lo, hi, r, fast
 
 
-def _affine_tables(
-    pc: _pieces.Pieces, regions: tuple[np.ndarray, ...], cells: int
-) -> tuple[np.ndarray, np.ndarray]:
-    """Per-cell ``x = A + B t``, ``t = u M``, for sketches of linear pieces and atoms.
-
-    Every cell of a piece carries the piece's own line, so ``x`` is monotone
-    across its cells and the slow path (the same line, clipped to the piece)
-    joins on without a step. A cell whose rounded ends would leave the piece
-    stays slow; NaN marks slow cells.
-    """
-    _, _, r, fast = _fast_cells(regions, cells)
-    kind, which = regions[2][r], regions[3][r]
-    a = np.full(cells + 1, np.nan)
-    b = np.zeros(cells + 1)
-    sel = fast & (kind == 1)
-    a[sel] = np.r_[pc.xa, pc.x_end][which[sel]]
-    sel = np.flatnonzero(fast & (kind == 2))
-    w = which[sel]
-    a_line, slope = _affine_line(pc, w)
-    b_cell = slope / cells  # exact: a power of two
-    start = sel.astype(float)
-    inside = (a_line + b_cell * start >= pc.xa[w]) & (a_line + b_cell * (start + 1) <= pc.xb[w])
-    a[sel[inside]] = a_line[inside]
-    b[sel[inside]] = b_cell[inside]
-    return a, b
-
-
 def _cell_tables(
     pc: _pieces.Pieces, regions: tuple[np.ndarray, ...], cells: int, tol: float
 ) -> tuple[np.ndarray, ...]:
@@ -549,6 +525,9 @@ def _cell_tables(
         j = which[r[sel]]
         x_lo = _pieces.invert_pieces(pc, j, lo[sel])
         x_hi = _pieces.invert_pieces(pc, j, hi[sel])
+        # x_lo + b τ never passes x_hi (the next cell's first value): a fast cell has j ≥ 1,
+        # so τ ≤ 1 - 2⁻⁵², and b = x_hi - x_lo rounded is at most (1 + 2⁻⁵³) times the exact
+        # difference, so b τ rounded stays below it; rounding the sum is monotone
         a[sel] = x_lo
         b[sel] = x_hi - x_lo
     sel = np.flatnonzero(fast & (k == 3))
@@ -557,6 +536,22 @@ def _cell_tables(
         good = sel[ok]
         a[good], b[good], c[good], d[good] = coef[:, ok]
     return a, b, c, d
+
+
+def _keep_between_edges(
+    a: np.ndarray, b: np.ndarray, c: np.ndarray, d: np.ndarray, edges: np.ndarray
+) -> None:
+    """Make slow (NaN) every fast cell whose values could leave ``[edges[j], edges[j+1]]``.
+
+    A cell's polynomial is non-decreasing in ``τ`` (checked when it was fitted),
+    so its first value ``a`` and its value at the largest ``τ`` a draw can have
+    bound it; both are computed with the arithmetic of the fast path.
+    """
+    j = np.flatnonzero(~np.isnan(a[:-1]))
+    last = np.nextafter(j + 1.0, 0.0) - j
+    end = ((d[j] * last + c[j]) * last + b[j]) * last + a[j]
+    bad = (a[j] < edges[j]) | (end > edges[j + 1])
+    a[j[bad]] = np.nan
 
 
 def _tail_inverse(tail: _pieces.ExpTail, upper: bool, u: np.ndarray) -> np.ndarray:
@@ -595,7 +590,7 @@ def _fit_tail_cubics(
         monotone = np.all(np.diff(path, axis=1) >= 0, axis=1)
         ok = (err <= tol + floor) & monotone & np.all(np.isfinite(x_nodes), axis=1)
     coef = tau_coef.T.copy()
-    coef[0] += x0[:, 0]
+    coef[0] = x0[:, 0]  # the cubic passes through its first node: exactly, not as fitted
     return coef, ok
 
 
@@ -629,5 +624,5 @@ def _fit_inverse_cubics(
     monotone = np.all(np.diff(path, axis=1) >= 0, axis=1)
     ok = (err <= tol + floor) & monotone
     coef = tau_coef.T.copy()
-    coef[0] += x0[:, 0]
+    coef[0] = x0[:, 0]  # the cubic passes through its first node: exactly, not as fitted
     return coef, ok

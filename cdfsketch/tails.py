@@ -22,6 +22,8 @@ import math
 from dataclasses import dataclass, field
 from typing import Literal
 
+from .knots import MAX_ABS_X
+
 __all__ = ["BoundedTail", "ExponentialTail", "Tail", "as_tail"]
 
 TAIL_DENSITIES = ("uniform", "taper")
@@ -60,6 +62,11 @@ class BoundedTail:
             raise ValueError(
                 f"BoundedTail limit must be finite; got {limit!r}. For an unbounded side use "
                 "ExponentialTail()."
+            )
+        if abs(limit) > MAX_ABS_X:
+            raise ValueError(
+                f"BoundedTail limit must satisfy |limit| ≤ {MAX_ABS_X:g}, like knot positions; "
+                f"got {limit!r}. Rescale the quantity (e.g. other units)."
             )
         if self.density not in TAIL_DENSITIES:
             raise ValueError(

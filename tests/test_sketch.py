@@ -183,6 +183,8 @@ def test_method_bad_input(call, match):
     [
         (lambda: BoundedTail(np.inf), "finite"),
         (lambda: BoundedTail("x"), "must be a number"),
+        # like knot positions (|x| ≤ 1e100): a limit at 1e308 overflows the tail's slope
+        (lambda: BoundedTail(-1e308), r"\|limit\| ≤ 1e\+100"),
         (lambda: BoundedTail(0.0, density="steep"), "density must be one of"),
         (lambda: ExponentialTail(-1.0), "positive"),
         (lambda: ExponentialTail("big"), "positive number or None"),

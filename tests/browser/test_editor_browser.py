@@ -8,6 +8,7 @@ state as the tests see it. Tests run in file order on one page.
 from __future__ import annotations
 
 import json
+import time
 from pathlib import Path
 
 import numpy as np
@@ -149,6 +150,23 @@ def check_drawn_where_the_kernel_has_them(lab, kx: np.ndarray, kp: np.ndarray) -
     np.testing.assert_allclose(g.x_of(ax_x2[:, 1] - g.offset), ax_x2[:, 0], atol=half * g.px_x)
 
 
+def drawn_where_the_kernel_has_them_soon(lab, kx, kp, timeout: float = 10.0) -> None:
+    """The view catches up with the kernel: checked again until it holds or ``timeout`` s.
+
+    After a burst of gestures the kernel's last corrections can reach a busy
+    browser after the kernel has gone quiet; a view that never catches up fails.
+    """
+    end = time.monotonic() + timeout
+    while True:
+        try:
+            check_drawn_where_the_kernel_has_them(lab, kx, kp)
+            return
+        except AssertionError:
+            if time.monotonic() > end:
+                raise
+            time.sleep(0.25)
+
+
 def test_rapid_random_drags_stay_valid_and_drawn_where_the_kernel_has_them(lab):
     rng = np.random.default_rng(11)
     show_cdf_panel(lab)
@@ -164,7 +182,7 @@ def test_rapid_random_drags_stay_valid_and_drawn_where_the_kernel_has_them(lab):
             done += 1
         kx, kp = settled(lab)  # loads and checks the autosaved spec
         cdfsketch.check_knots(kx, kp)
-        check_drawn_where_the_kernel_has_them(lab, kx, kp)
+        drawn_where_the_kernel_has_them_soon(lab, kx, kp)
     assert done == 300
 
 
