@@ -255,7 +255,7 @@ def _exp_scale(tail: ExponentialTail, x, p, d, side: str, mass: float) -> float:
         return float(tail.scale)
     f = _outer_density(x, p, d, side)
     scale = mass / f if f > 0 else math.inf
-    if not math.isfinite(scale):
+    if not (math.isfinite(scale) and scale > 0):  # no density there, or mass / f underflows
         scale = float(x[-1] - x[0])
     return scale
 

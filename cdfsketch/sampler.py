@@ -20,8 +20,13 @@ A sketch is compiled once into lookup tables over ``u``:
   with right-closed intervals ``(ul, ur]`` found by binary search, built the
   same way but halved adaptively until they pass, and with the tails' closed
   forms. Linear pieces are inverted there by the closed form the cells were
-  built from, and other intervals kept at or below where the next one
-  starts, so ``x(u)`` never steps down.
+  built from, other intervals are kept at or below where the next one
+  starts, and every result is clipped to the exact inverse at its cell's two
+  edges, so ``x(u)`` never steps down from one cell or interval to the next.
+  Inside a cubic interval whose terms nearly cancel (next to a knot where the
+  density is zero) rounding can still make ``x`` step down by an ulp or two
+  between adjacent doubles ``u`` finer than the 2⁻⁵³ grid that ``sample``
+  draws from.
 
 Draws are made in cache-sized chunks with fixed-size work buffers, so the
 extra memory is O(chunk), and since each value depends only on its own
@@ -248,8 +253,10 @@ class Sampler:
     def ppf(self, u: Any) -> Any:
         """Table inverse at probabilities ``u`` (e.g. Latin hypercube or Sobol points).
 
-        Exact to rounding for linear pieces and atoms; ``|u - cdf(ppf(u))| ≤ 1e-10`` for
-        monotone cubic pieces and exponential tails. ``ppf(0)``/``ppf(1)`` are the support's ends.
+        Exact to rounding for linear pieces and atoms; for monotone cubic pieces and
+        exponential tails ``|u - cdf(ppf(u))| ≤ 1e-10`` plus what the rounding of ``x``
+        allows (the density times a few ulps of ``x``, which matters only far from 0).
+        ``ppf(0)``/``ppf(1)`` are the support's ends.
 
         Examples
         --------
@@ -320,8 +327,9 @@ def _body_intervals(
     ``keep`` holds sorted, disjoint ``[lo, hi]`` ranges of ``u`` (the slow
     cells); ``None`` covers the whole body ``(p_low, p_high]``. Returns
     ``ul, ur``, the coefficients ``(a, b, c, d)`` of ``x`` in ``s = u - ul``
-    (for atoms and linear pieces: their value at ``ul`` and slope), and each
-    interval's region kind and index (see :func:`_regions`).
+    (for atoms and linear pieces only their value at ``ul``: they are inverted
+    in closed form), and each interval's region kind and index (see
+    :func:`_regions`).
     """
     rul, rur, kind, which = regions
     parts = [  # (lo, hi, kind, index) for every covered stretch
@@ -340,10 +348,7 @@ def _body_intervals(
     a = np.r_[pc.xa, pc.x_end][np.where(k == 1, w, 0)]  # atoms: constant x
     b = zeros.copy()
     lin = np.flatnonzero(k == 2)
-    if lin.size:
-        with np.errstate(over="ignore", divide="ignore"):
-            slope = pc.h[w[lin]] / pc.c[1, w[lin]]
-        b[lin] = np.where(np.isfinite(slope), slope, 0.0)  # < 1e-200 of mass: its left end
+    if lin.size:  # inverted in closed form (Sampler._closed_form); a is their start
         a[lin] = _pieces.invert_pieces(pc, w[lin], lo[lin])
     simple = k != 3
     rows = (lo, hi, a, b, zeros, zeros, k, w)
@@ -439,15 +444,18 @@ def _eval_tau(coef: np.ndarray, tau: np.ndarray) -> np.ndarray:
 def _cell_count(cubic_pieces: int, pieces: int) -> int:
     """Cells ``M`` of the uniform grid: a power of two, so ``u M`` is exact.
 
-    About 512 cells per monotone cubic piece (4096 to 16384), or 128 per piece
-    otherwise (4096 to 131072): enough that few cells hold a breakpoint or
-    fail the accuracy test, few enough to compile in milliseconds. (Measured
-    for 1000 linear pieces, tests/bench/bench_sampler.py: 2^17 cells sample
-    slightly faster than 2^16 despite the larger tables, 2^15 clearly slower.)
+    About 512 cells per monotone cubic piece and at least 128 per piece of any
+    kind, from 4096 up to 65536 when there are cubic cells to fit (each costs
+    a few inverse evaluations to compile) or 131072 otherwise: enough that few
+    cells hold a breakpoint or fail the accuracy test, few enough to compile
+    in well under a second. (Measured, 1000 linear pieces: 2^17 cells sample
+    slightly faster than 2^16 despite the larger tables, 2^15 clearly slower;
+    1000 cubic pieces: 2^16 cells compile in ~170 ms and sample 1.6x faster
+    than 2^14.)
     """
-    if cubic_pieces:
-        return 1 << min(14, max(12, math.ceil(math.log2(512 * cubic_pieces))))
-    return 1 << min(17, max(12, math.ceil(math.log2(128 * (pieces + 2)))))
+    want = max(512 * cubic_pieces, 128 * (pieces + 2))
+    top = 16 if cubic_pieces else 17
+    return 1 << min(top, max(12, math.ceil(math.log2(want))))
 
 
 def _regions(pc: _pieces.Pieces) -> tuple[np.ndarray, ...]:

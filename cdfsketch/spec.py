@@ -37,7 +37,7 @@ from typing import TYPE_CHECKING, Any
 import numpy as np
 
 from ._version import __version__
-from .knots import KnotError
+from .knots import MAX_ABS_X, KnotError
 from .tails import BoundedTail, ExponentialTail
 
 if TYPE_CHECKING:
@@ -340,7 +340,13 @@ def _tail_from_spec(
         density = obj.get("density")
         if density not in ("uniform", "taper"):
             raise SpecError(f"{where}.density must be 'uniform' or 'taper'; found {density!r}.")
-        return BoundedTail(_number(obj.get("limit"), f"{where}.limit"), density=density), None
+        limit = _number(obj.get("limit"), f"{where}.limit")
+        if abs(limit) > MAX_ABS_X:
+            raise SpecError(
+                f"{where}.limit must satisfy |limit| ≤ {MAX_ABS_X:g}, like knot positions; "
+                f"found {limit!r}. Rescale the quantity (e.g. other units)."
+            )
+        return BoundedTail(limit, density=density), None
     if kind == "exponential":
         _check_keys(obj, ("kind", "scale", "scale_rule", "stated"), where)
         rule = obj.get("scale_rule")
@@ -359,6 +365,11 @@ def _tail_from_spec(
             s = _number(scale, f"{where}.scale")
             if s <= 0:
                 raise SpecError(f"{where}.scale must be positive; found {s!r}.")
+            if s > MAX_ABS_X:
+                raise SpecError(
+                    f"{where}.scale must be at most {MAX_ABS_X:g}, like knot positions; found "
+                    f"{s!r}. Rescale the quantity (e.g. other units)."
+                )
             return ExponentialTail(s), None
         if rule == "continue-density":
             stored = None if scale is None else _number(scale, f"{where}.scale")

@@ -107,6 +107,11 @@ class ExponentialTail:
                 f"ExponentialTail scale must be positive and finite; got {scale!r}. Pass None "
                 "to derive it from the density at the outer knot."
             )
+        if scale > MAX_ABS_X:
+            raise ValueError(
+                f"ExponentialTail scale must be at most {MAX_ABS_X:g}, like knot positions; got "
+                f"{scale!r}. Rescale the quantity (e.g. other units)."
+            )
         object.__setattr__(self, "scale", scale)
 
 

@@ -199,6 +199,12 @@ function tailFromSpec(obj, side) {
       throw new SpecError(`${where}.density must be 'uniform' or 'taper'; found ${show(density)}.`);
     }
     const limit = number(own(obj, "limit"), `${where}.limit`);
+    if (Math.abs(limit) > MAX_ABS_X) {
+      throw new SpecError(
+        `${where}.limit must satisfy |limit| ≤ 1e+100, like knot positions; found ` +
+          `${show(limit)}. Rescale the quantity (e.g. other units).`,
+      );
+    }
     return { tail: { kind: "bounded", limit, density }, stored: null };
   }
   if (kind === "exponential") {
@@ -219,6 +225,12 @@ function tailFromSpec(obj, side) {
     if (rule === "stated") {
       const s = number(scale, `${where}.scale`);
       if (s <= 0) throw new SpecError(`${where}.scale must be positive; found ${show(s)}.`);
+      if (s > MAX_ABS_X) {
+        throw new SpecError(
+          `${where}.scale must be at most 1e+100, like knot positions; found ${show(s)}. ` +
+            "Rescale the quantity (e.g. other units).",
+        );
+      }
       return { tail: { kind: "exponential", scale: s }, stored: null };
     }
     if (rule === "continue-density") {
@@ -521,21 +533,13 @@ function outerDensity(x, p, d, side) {
 }
 
 function expScale(tail, x, p, d, side, mass) {
+  // cdfsketch._pieces._exp_scale
   if (tail.scale !== null) return tail.scale;
   const f = outerDensity(x, p, d, side);
-  if (!(f > 0)) {
-    throw new Error(
-      `Cannot derive the ${side} exponential tail's scale: the density at the outer knots ` +
-        `is zero (all knots have p=${p[0]}). State a scale (scale_rule 'stated'), or use a ` +
-        "bounded tail.",
-    );
-  }
-  const scale = mass / f;
-  if (!Number.isFinite(scale)) {
-    throw new Error(
-      `The derived ${side} exponential scale is not finite (mass ${mass}, density ${f}). ` +
-        "State a scale (scale_rule 'stated').",
-    );
+  let scale = f > 0 ? mass / f : Infinity;
+  if (!(Number.isFinite(scale) && scale > 0)) {
+    // no density to continue, or mass / f underflows: the knots' span
+    scale = x[x.length - 1] - x[0];
   }
   return scale;
 }

@@ -178,6 +178,9 @@ def _cases(rng: np.random.Generator) -> list[tuple[str, Sketch]]:
             "large negative x (linear)",
             Sketch([-1e12, -5e11, 0.0, 3e11], [0.0, 0.25, 0.75, 0.99]),
         ),
+        # derived scales with no density to continue, or one that underflows: the knots' span
+        ("derived scales, no density at the knots", Sketch([0, 4], [0.5, 0.5])),
+        ("derived scale underflows", Sketch([0, 1e-67, 1], [1e-263, 0.5, 1])),
     ]
     # random knots: sorted draws, probabilities strictly inside (0, 1) and rising
     xr = np.sort(rng.normal(10.0, 3.0, 12))
@@ -352,6 +355,10 @@ def _bad_specs() -> list[dict[str, Any]]:
          "limit"),
         ("bounded density unknown", bounded, ["tails", "lower", "density"], "normal",
          "tails.lower.density"),
+        ("bounded limit beyond 1e100", bounded, ["tails", "lower", "limit"], -1e300,
+         "tails.lower.limit"),
+        ("stated scale beyond 1e100", base, ["tails", "upper"],
+         {"kind": "exponential", "scale": 1e300, "scale_rule": "stated"}, "tails.upper.scale"),
         ("unknown provenance key", base, ["provenance", "script"], "rm -rf /", "'script'"),
         ("provenance text not a string", base, ["provenance", "author"], ["a"],
          "provenance.author"),
