@@ -88,6 +88,11 @@ def test_ppf_monotone_inside_support_and_inverts_cdf(s):
     fast = s.sampler().ppf(u)
     assert np.all(np.diff(fast) >= 0)
     assert u_error(s, u[inner], fast[inner]) <= 1e-10 + floor
+    # where fast and slow cells meet: every cell edge and one ulp either side
+    edges = np.arange(s.sampler()._cells + 1) / s.sampler()._cells
+    ue = np.unique(np.r_[edges, np.nextafter(edges, 0), np.nextafter(edges, 1), u])
+    ue = ue[(ue >= 0) & (ue <= 1)]
+    assert np.all(np.diff(s.sampler().ppf(ue)) >= 0)
 
 
 @given(sketches(), st.integers(0, 2**32 - 1))
