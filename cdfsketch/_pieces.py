@@ -20,7 +20,7 @@ from dataclasses import dataclass
 
 import numpy as np
 
-from .knots import KnotError
+from .knots import MAX_ABS_X, KnotError
 from .tails import BoundedTail, ExponentialTail, Tail
 
 INTERPOLATIONS = ("linear", "pchip")
@@ -257,7 +257,8 @@ def _exp_scale(tail: ExponentialTail, x, p, d, side: str, mass: float) -> float:
     scale = mass / f if f > 0 else math.inf
     if not (math.isfinite(scale) and scale > 0):  # no density there, or mass / f underflows
         scale = float(x[-1] - x[0])
-    return scale
+    # at most what a stated scale may be (like knot positions), so it can be restated
+    return min(scale, MAX_ABS_X)
 
 
 def _ro(a: np.ndarray) -> np.ndarray:

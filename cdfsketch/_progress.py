@@ -31,6 +31,15 @@ def in_notebook() -> bool:
     return ip is not None and type(ip).__name__ == "ZMQInteractiveShell"
 
 
+def check_progress(progress: Any) -> None:
+    """Raise unless ``progress`` is None, False or a callable."""
+    if progress is not None and progress is not False and not callable(progress):
+        raise TypeError(
+            f"progress must be None (automatic), False (off) or a callable "
+            f"progress(done, total, label); got {type(progress).__name__}."
+        )
+
+
 class Progress:
     """Reports steps to a callable, or to an ipywidgets bar shown after 1 s in a notebook.
 
@@ -46,11 +55,7 @@ class Progress:
     """
 
     def __init__(self, progress: Any, total: int, *, title: str) -> None:
-        if progress is not None and progress is not False and not callable(progress):
-            raise TypeError(
-                f"progress must be None (automatic), False (off) or a callable "
-                f"progress(done, total, label); got {type(progress).__name__}."
-            )
+        check_progress(progress)
         self.total = total
         self.title = title
         self.call = progress if callable(progress) else None

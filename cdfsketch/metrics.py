@@ -27,7 +27,7 @@ import html
 import math
 from collections.abc import Callable, Iterable, Sequence
 from dataclasses import dataclass
-from typing import Any
+from typing import Any, Literal
 
 import numpy as np
 
@@ -655,7 +655,7 @@ def compare(
     holdout: float | None = 0.3,
     level: float = 0.95,
     rng: Any = None,
-    progress: ProgressCallback | bool | None = None,
+    progress: ProgressCallback | Literal[False] | None = None,
 ) -> ComparisonTable:
     """Judge candidates against data: distances, scores and a held-out check.
 

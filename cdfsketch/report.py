@@ -37,6 +37,7 @@ from typing import Any
 
 import numpy as np
 
+from ._progress import check_progress
 from ._version import __version__
 from .empirical import ECDF, as_data
 from .sketch import Atom, Sketch
@@ -280,6 +281,7 @@ class Review:
     ) -> None:
         _text(units, "units")
         _text(name, "name")
+        check_progress(progress)
         if isinstance(level, bool) or not isinstance(level, int | float) or not 0 < level < 1:
             raise ValueError(f"level must be a number strictly between 0 and 1; got {level!r}.")
         if isinstance(candidates, str | bytes) or not isinstance(candidates, Iterable):

@@ -541,7 +541,8 @@ function expScale(tail, x, p, d, side, mass) {
     // no density to continue, or mass / f underflows: the knots' span
     scale = x[x.length - 1] - x[0];
   }
-  return scale;
+  // at most what a stated scale may be (like knot positions), so it can be restated
+  return Math.min(scale, MAX_ABS_X);
 }
 
 /** The piece table of valid knots, as cdfsketch._pieces.build_pieces. */

@@ -245,6 +245,29 @@ def test_binned_kde_cdf_table_within_the_hermite_error_bound(x, monkeypatch):
     np.testing.assert_array_equal(direct.cdf(pts), exact)
 
 
+def test_binned_kde_table_is_lazy_exact_outside_and_refused_when_x_rounding_dominates():
+    from scipy.special import ndtr
+
+    x = np.random.default_rng(9).normal(0.0, 1.0, 5000)  # invented, seeded
+    model = fit_kde(x)._model
+    assert model.tabled and model._table is None  # fitting alone builds no table
+    far = np.array([model.c[0] - 30 * model.h, np.nan, model.c[-1] + 30 * model.h])
+    got = model.cdf(far)
+    assert model._table is not None
+    direct = np.clip(model._each(far, ndtr, True), 0.0, 1.0)
+    assert got[0] == direct[0] and 0 < got[0] < 1e-150  # the direct sum, not a floor
+    assert np.isnan(got[1]) and got[2] == direct[2] == pytest.approx(1.0, abs=1e-12)
+    # a spread of 1e-4 at 1e8: one ulp of x is 1.5e-8 of h, so a table would mislead (a
+    # review found 2.8e-5 errors with inexact node positions); the direct sum is used
+    tight = fit_kde(1e8 + np.random.default_rng(10).normal(0, 1e-4, 5000))._model
+    assert not tight.tabled and tight.table is None
+
+
+def test_kde_bandwidth_must_be_finite():
+    with pytest.raises(ValueError, match="bandwidth must be a positive finite number"):
+        fit_kde(np.random.default_rng(1).normal(size=3000) * 1e306)
+
+
 def test_kde_sample_is_smoothed_bootstrap():
     x = np.random.default_rng(8).normal(size=200)
     k = fit_kde(x)

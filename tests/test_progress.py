@@ -31,8 +31,9 @@ def test_review_passes_progress_on(data):
     calls = []
     Review(data, [Sketch([0, 30], [0, 1], name="flat")], rng=1, progress=lambda *a: calls.append(a))
     assert calls == [(1, 1, "flat")]
-    with pytest.raises(TypeError, match="progress must be None"):
-        Review(data, [Sketch([0, 30], [0, 1], name="flat")], progress="yes")
+    for d in (data, None):  # checked even when there is nothing to score
+        with pytest.raises(TypeError, match="progress must be None"):
+            Review(d, [Sketch([0, 30], [0, 1], name="flat")], progress="yes")
 
 
 class ZMQInteractiveShell:  # the class name is what in_notebook() looks for

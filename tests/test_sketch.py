@@ -92,6 +92,15 @@ def test_derived_scale_falls_back_to_knot_range_when_density_is_zero():
     assert s.mean() == pytest.approx(0.5 * (0 - 1) + 0.5 * (1 + 2))
 
 
+def test_derived_scale_never_zero_and_at_most_a_stated_scales_limit():
+    # mass / density underflows to 0: the knot span instead (found in review)
+    assert Sketch([0, 1e-67, 1], [1e-263, 0.5, 1]).tail_scales[0] == 1.0
+    # 5e109 by the rule: capped at 1e100 so it can be restated, e.g. by pool()
+    s = Sketch([0, 1e100], [0.5, 0.5 + 1e-10])
+    assert s.tail_scales == (1e100, 1e100)
+    assert Sketch([0, 1e100], [0.5, 0.6], lower_tail=ExponentialTail(s.tail_scales[0]))
+
+
 def test_immutable_and_read_only_arrays():
     s = Sketch([0, 1], [0, 1])
     with pytest.raises(AttributeError, match="immutable"):

@@ -181,6 +181,7 @@ def _cases(rng: np.random.Generator) -> list[tuple[str, Sketch]]:
         # derived scales with no density to continue, or one that underflows: the knots' span
         ("derived scales, no density at the knots", Sketch([0, 4], [0.5, 0.5])),
         ("derived scale underflows", Sketch([0, 1e-67, 1], [1e-263, 0.5, 1])),
+        ("derived scale capped at 1e100", Sketch([0, 1e100], [0.5, 0.5 + 1e-10])),
     ]
     # random knots: sorted draws, probabilities strictly inside (0, 1) and rising
     xr = np.sort(rng.normal(10.0, 3.0, 12))
