@@ -326,6 +326,17 @@ def pdf(pc: Pieces, v: np.ndarray) -> np.ndarray:
     return out
 
 
+def linear_inverse(
+    xa: np.ndarray, h: np.ndarray, c0: np.ndarray, c1: np.ndarray, xb: np.ndarray, u: np.ndarray
+) -> np.ndarray:
+    """The closed-form inverse on linear pieces, given their columns of the piece table.
+
+    :func:`invert_pieces` and the sampler's slow path both use it, so the two
+    agree bit for bit (the sampler relies on that for the order of its draws).
+    """
+    return np.minimum(xa + h * np.clip((u - c0) / c1, 0.0, 1.0), xb)
+
+
 def invert_pieces(pc: Pieces, j: np.ndarray, u: np.ndarray) -> np.ndarray:
     """Solve ``F_j(t) = u`` on polynomial pieces ``j``; returns ``x``.
 
@@ -333,9 +344,13 @@ def invert_pieces(pc: Pieces, j: np.ndarray, u: np.ndarray) -> np.ndarray:
     Newton iteration with bisection (converges to rounding).
     """
     c = pc.c[:, j]
-    t = np.empty(u.shape)
     lin = (c[2] == 0) & (c[3] == 0)
-    t[lin] = (u[lin] - c[0, lin]) / c[1, lin]
+    x = np.empty(u.shape)
+    jl = j[lin]
+    x[lin] = linear_inverse(pc.xa[jl], pc.h[jl], c[0, lin], c[1, lin], pc.xb[jl], u[lin])
+    if lin.all():
+        return x
+    t = np.empty(u.shape)
     # quadratic pieces (taper tails): the root in its cancellation-free form
     quad = (c[3] == 0) & ~lin
     if quad.any():
@@ -347,8 +362,10 @@ def invert_pieces(pc: Pieces, j: np.ndarray, u: np.ndarray) -> np.ndarray:
     cub = ~(lin | quad)
     if cub.any():
         t[cub] = _solve_monotone_cubic(c[:, cub], u[cub])
-    t = np.clip(t, 0.0, 1.0)
-    return np.minimum(pc.xa[j] + pc.h[j] * t, pc.xb[j])
+    rest = ~lin
+    jr = j[rest]
+    x[rest] = np.minimum(pc.xa[jr] + pc.h[jr] * np.clip(t[rest], 0.0, 1.0), pc.xb[jr])
+    return x
 
 
 def _solve_monotone_cubic(c: np.ndarray, u: np.ndarray) -> np.ndarray:

@@ -138,8 +138,8 @@ class Sampler:
         self._ul, self._ur = ul, ur
         self._ia, self._ib, self._ic, self._id = coef
         # atoms and linear pieces are inverted there by the closed form the cells were built
-        # from (_pieces.invert_pieces, same arithmetic): monotone in u, so slow and fast draws
-        # keep their order; an atom is a piece of zero width
+        # from (_pieces.linear_inverse): monotone in u, so slow and fast draws keep their
+        # order; an atom is a piece of zero width
         lin = kind == 2
         piece = np.where(lin, w, 0)
         self._closed = kind != 3
@@ -246,9 +246,8 @@ class Sampler:
         return np.minimum(np.maximum(x, self._edges[cell]), self._edges[cell + 1])
 
     def _closed_form(self, k: np.ndarray, u: np.ndarray) -> np.ndarray:
-        """``invert_pieces``' closed form on the atom and linear-piece intervals ``k``."""
-        xa, h, c0, c1, xb = (row[k] for row in self._closed_rows)
-        return np.minimum(xa + h * np.clip((u - c0) / c1, 0.0, 1.0), xb)
+        """The closed form of ``invert_pieces`` on the atom and linear-piece intervals ``k``."""
+        return _pieces.linear_inverse(*(row[k] for row in self._closed_rows), u)
 
     def ppf(self, u: Any) -> Any:
         """Table inverse at probabilities ``u`` (e.g. Latin hypercube or Sobol points).
@@ -488,17 +487,16 @@ def _fast_cells(regions: tuple[np.ndarray, ...], cells: int) -> tuple[np.ndarray
     A cell ``[j/M, (j+1)/M)`` may be fast when it lies inside one region:
     strictly after the region's start (the inverse at ``u = ul`` belongs to the
     region before, since intervals are right-closed) and not past its end. The
-    extra cell ``j = M`` (``u = 1``, ppf only) is always slow.
+    extra cell ``j = M`` (``u = 1``, ppf only) is always slow. Whether its
+    rounded values stay between its edges is checked later, for every kind
+    of cell at once (:func:`_keep_between_edges`).
     """
     idx = np.arange(cells + 1)
     lo = idx / cells
     hi = (idx + 1) / cells
-    rul, rur, kind, _ = regions
+    rul, rur, _, _ = regions
     r = np.minimum(np.searchsorted(rur, lo, side="left"), rur.size - 1)
     fast = (lo > rul[r]) & (hi <= rur[r]) & (idx < cells)
-    # a cell ending exactly where an atom starts could round past the atom's x
-    next_kind = np.r_[kind[1:], -1][r]
-    fast &= ~((hi == rur[r]) & (next_kind == 1))
     return lo, hi, r, fast
 
 

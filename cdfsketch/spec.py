@@ -37,7 +37,7 @@ from typing import TYPE_CHECKING, Any
 import numpy as np
 
 from ._version import __version__
-from .knots import MAX_ABS_X, KnotError
+from .knots import KnotError
 from .tails import BoundedTail, ExponentialTail
 
 if TYPE_CHECKING:
@@ -318,6 +318,14 @@ def check_provenance(prov: Any) -> None:
             raise SpecError(f"provenance.{key} must be an object; found {prov[key]!r}.")
 
 
+def _tail(make: type, value: float, field: str, **options: Any) -> Any:
+    """A tail object, its own checks reported as a SpecError naming the spec's field."""
+    try:
+        return make(value, **options)
+    except ValueError as err:
+        raise SpecError(f"{field}: {err}") from None
+
+
 def _tail_from_spec(
     obj: Any, side: str
 ) -> tuple[BoundedTail | ExponentialTail | None, float | None]:
@@ -341,12 +349,7 @@ def _tail_from_spec(
         if density not in ("uniform", "taper"):
             raise SpecError(f"{where}.density must be 'uniform' or 'taper'; found {density!r}.")
         limit = _number(obj.get("limit"), f"{where}.limit")
-        if abs(limit) > MAX_ABS_X:
-            raise SpecError(
-                f"{where}.limit must satisfy |limit| ≤ {MAX_ABS_X:g}, like knot positions; "
-                f"found {limit!r}. Rescale the quantity (e.g. other units)."
-            )
-        return BoundedTail(limit, density=density), None
+        return _tail(BoundedTail, limit, f"{where}.limit", density=density), None
     if kind == "exponential":
         _check_keys(obj, ("kind", "scale", "scale_rule", "stated"), where)
         rule = obj.get("scale_rule")
@@ -362,15 +365,7 @@ def _tail_from_spec(
                 "'continue-density'."
             )
         if rule == "stated":
-            s = _number(scale, f"{where}.scale")
-            if s <= 0:
-                raise SpecError(f"{where}.scale must be positive; found {s!r}.")
-            if s > MAX_ABS_X:
-                raise SpecError(
-                    f"{where}.scale must be at most {MAX_ABS_X:g}, like knot positions; found "
-                    f"{s!r}. Rescale the quantity (e.g. other units)."
-                )
-            return ExponentialTail(s), None
+            return _tail(ExponentialTail, _number(scale, f"{where}.scale"), f"{where}.scale"), None
         if rule == "continue-density":
             stored = None if scale is None else _number(scale, f"{where}.scale")
             return (ExponentialTail(None) if stated else None), stored
