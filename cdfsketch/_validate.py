@@ -202,13 +202,23 @@ def number(
     if not _is_real(value):
         kind = "a bool" if isinstance(value, bool | np.bool_) else type(value).__name__
         raise fail(
-            rule, f"{quote(value)} ({kind})", f"Pass a float, e.g. {ex}.",
-            error=error, field=field, value=value,
+            rule,
+            f"{quote(value)} ({kind})",
+            f"Pass a float, e.g. {ex}.",
+            error=error,
+            field=field,
+            value=value,
         )
     v = float(value)
     if math.isnan(v) or (finite and math.isinf(v)):
-        raise fail(rule, quote(v), f"Pass a finite float, e.g. {ex}.", error=error, field=field,
-                   value=value)
+        raise fail(
+            rule,
+            quote(v),
+            f"Pass a finite float, e.g. {ex}.",
+            error=error,
+            field=field,
+            value=value,
+        )
     too_low = low is not None and (v <= low if low_open else v < low)
     too_high = high is not None and (v >= high if high_open else v > high)
     if too_low or too_high:
@@ -243,8 +253,14 @@ def integer(
         rule = f"{field} must be an integer"
     if isinstance(value, bool | np.bool_) or not isinstance(value, numbers.Integral):
         kind = "a bool" if isinstance(value, bool | np.bool_) else type(value).__name__
-        raise fail(rule, f"{quote(value)} ({kind})", f"Pass a whole number, e.g. {ex}.",
-                   error=error, field=field, value=value)
+        raise fail(
+            rule,
+            f"{quote(value)} ({kind})",
+            f"Pass a whole number, e.g. {ex}.",
+            error=error,
+            field=field,
+            value=value,
+        )
     v = int(value)
     if (low is not None and v < low) or (high is not None and v > high):
         raise fail(rule, quote(v), f"Pass e.g. {ex}.", error=error, field=field, value=value)
@@ -271,23 +287,44 @@ def text(
     cdfsketch._validate.InputError: name must be text that can be saved as UTF-8; got ...
     """
     if not isinstance(value, str):
-        raise fail(f"{field} must be a str", f"{type(value).__name__} {quote(value)}",
-                   f"Pass text, e.g. {field}='repair time'.", error=error, field=field,
-                   value=value)
+        raise fail(
+            f"{field} must be a str",
+            f"{type(value).__name__} {quote(value)}",
+            f"Pass text, e.g. {field}='repair time'.",
+            error=error,
+            field=field,
+            value=value,
+        )
     try:
         value.encode("utf-8")
     except UnicodeEncodeError as exc:
-        raise fail(f"{field} must be text that can be saved as UTF-8",
-                   f"an unpaired surrogate {value[exc.start]!r} at character {exc.start}",
-                   "Remove it or replace it with the intended character.",
-                   error=error, field=field, index=exc.start, value=value) from None
+        raise fail(
+            f"{field} must be text that can be saved as UTF-8",
+            f"an unpaired surrogate {value[exc.start]!r} at character {exc.start}",
+            "Remove it or replace it with the intended character.",
+            error=error,
+            field=field,
+            index=exc.start,
+            value=value,
+        ) from None
     if max_len is not None and len(value) > max_len:
-        raise fail(f"{field} must be at most {max_len} characters", f"{len(value)} characters",
-                   "Shorten it; longer notes belong in the rationale.", error=error,
-                   field=field, value=value)
+        raise fail(
+            f"{field} must be at most {max_len} characters",
+            f"{len(value)} characters",
+            "Shorten it; longer notes belong in the rationale.",
+            error=error,
+            field=field,
+            value=value,
+        )
     if not empty and not value.strip():
-        raise fail(f"{field} must not be empty", quote(value), f"Give the {field} in words.",
-                   error=error, field=field, value=value)
+        raise fail(
+            f"{field} must not be empty",
+            quote(value),
+            f"Give the {field} in words.",
+            error=error,
+            field=field,
+            value=value,
+        )
     return value
 
 
@@ -305,8 +342,14 @@ def choice(
     if isinstance(value, str | int | float | bool | None) and value in opts:
         return value
     listed = ", ".join(repr(o) for o in opts)
-    raise fail(f"{field} must be one of {listed}", quote(value), f"Pick one of {listed}.",
-               error=error, field=field, value=value)
+    raise fail(
+        f"{field} must be one of {listed}",
+        quote(value),
+        f"Pick one of {listed}.",
+        error=error,
+        field=field,
+        value=value,
+    )
 
 
 def mapping(value: Any, *, field: str, error: type[InputError] = InputError) -> Mapping:
@@ -318,9 +361,14 @@ def mapping(value: Any, *, field: str, error: type[InputError] = InputError) -> 
     {'a': 1}
     """
     if not isinstance(value, Mapping):
-        raise fail(f"{field} must be a mapping (a dict)", type(value).__name__,
-                   f"Pass e.g. {field}={{'name': value}}.", error=error, field=field,
-                   value=value)
+        raise fail(
+            f"{field} must be a mapping (a dict)",
+            type(value).__name__,
+            f"Pass e.g. {field}={{'name': value}}.",
+            error=error,
+            field=field,
+            value=value,
+        )
     return value
 
 
@@ -344,8 +392,13 @@ def shape(size: Any, *, field: str = "size") -> tuple[int, ...]:
     except TypeError:
         ok = False
     if not ok:
-        raise fail(f"{field} must be a non-negative integer or a tuple of them", quote(size),
-                   f"For example {field}=10_000 or {field}=(100, 3).", field=field, value=size)
+        raise fail(
+            f"{field} must be a non-negative integer or a tuple of them",
+            quote(size),
+            f"For example {field}=10_000 or {field}=(100, 3).",
+            field=field,
+            value=size,
+        )
     return out
 
 
@@ -371,19 +424,37 @@ def values(
     (array(3.), True)
     """
     if isinstance(x, str | bytes):
-        raise fail(f"{field} must be numbers", quote(x), f"Pass a float or an array of floats.",
-                   error=error, field=field, value=x)
+        raise fail(
+            f"{field} must be numbers",
+            quote(x),
+            "Pass a float or an array of floats.",
+            error=error,
+            field=field,
+            value=x,
+        )
     try:
         arr = np.asarray(x, dtype=float)
     except (TypeError, ValueError):
-        raise fail(f"{field} must be numbers", quote(x), "Pass a float or an array of floats.",
-                   error=error, field=field, value=x) from None
+        raise fail(
+            f"{field} must be numbers",
+            quote(x),
+            "Pass a float or an array of floats.",
+            error=error,
+            field=field,
+            value=x,
+        ) from None
     if not nan:
         i = first_bad(np.isnan(arr))
         if i is not None:
-            raise fail(f"{field} must not contain NaN", f"NaN at flat index {i}",
-                       "Drop or replace the missing values first.", error=error, field=field,
-                       index=i, value=x)
+            raise fail(
+                f"{field} must not contain NaN",
+                f"NaN at flat index {i}",
+                "Drop or replace the missing values first.",
+                error=error,
+                field=field,
+                index=i,
+                value=x,
+            )
     return arr, arr.ndim == 0
 
 
@@ -404,7 +475,13 @@ def probabilities(
     arr, scalar = values(u, field=field, error=error)
     i = first_bad((arr < 0) | (arr > 1))
     if i is not None:
-        raise fail(f"{field} must be probabilities in [0, 1]",
-                   f"{float(arr.ravel()[i])!r} at flat index {i}", "Rescale or clip them.",
-                   error=error, field=field, index=i, value=float(arr.ravel()[i]))
+        raise fail(
+            f"{field} must be probabilities in [0, 1]",
+            f"{float(arr.ravel()[i])!r} at flat index {i}",
+            "Rescale or clip them.",
+            error=error,
+            field=field,
+            index=i,
+            value=float(arr.ravel()[i]),
+        )
     return arr, scalar
