@@ -8,7 +8,7 @@ Examples
 ...     need("parquet", "no_such_module_for_cdfsketch")
 ... except ImportError as exc:
 ...     print(exc)
-This needs the optional 'parquet' extra (module 'no_such_module_for_cdfsketch' is not installed). Install it with: pip install 'cdfsketch[parquet]'
+This needs the optional 'parquet' extra (...). Install it with: pip install 'cdfsketch[parquet]'
 """
 
 from __future__ import annotations
