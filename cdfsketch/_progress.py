@@ -12,6 +12,8 @@ import time
 from collections.abc import Callable
 from typing import Any
 
+from ._extras import need
+
 #: ``progress(done, total, label)``, called after each step.
 ProgressCallback = Callable[[int, int, str], Any]
 
@@ -73,9 +75,8 @@ class Progress:
             if importlib.util.find_spec("ipywidgets") is None:
                 self.auto = False
                 return
-            import ipywidgets
-            from IPython.display import display
-
+            ipywidgets = need("notebook", "ipywidgets")
+            display = need("notebook", "IPython.display").display
             self.bar = ipywidgets.IntProgress(min=0, max=self.total, description=self.title)
             display(self.bar)
         if self.bar is not None:

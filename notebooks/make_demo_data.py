@@ -7,7 +7,9 @@ from the regional depot; a few wait for a specialist. Times are logged to the
 nearest half hour, so the data are lumpy (ties), and there are only 64 of
 them — the situation cdfsketch is made for.
 
-Run ``python notebooks/make_demo_data.py`` to write
+The generator lives in the package (``cdfsketch.demo.repair_hours``, seeded), so
+``cdfsketch demo`` runs on the same numbers after a plain install. Run
+``python notebooks/make_demo_data.py`` to write
 ``notebooks/data/pump_repair_hours.csv``; the test suite checks that the
 committed file equals what this script writes.
 """
@@ -19,7 +21,8 @@ from pathlib import Path
 
 import numpy as np
 
-SEED = 20261202
+from cdfsketch.demo import repair_hours
+
 OUT = Path(__file__).with_name("data") / "pump_repair_hours.csv"
 HEADER = (
     "# INVENTED DATA for cdfsketch demos: repair times (hours) of field pumps at the\n"
@@ -27,24 +30,6 @@ HEADER = (
     "# notebooks/make_demo_data.py with seed 20261202. Not real observations.\n"
     "repair_hours\n"
 )
-
-
-def repair_hours(*, rng: object = SEED, n: int = 64) -> np.ndarray:
-    """The invented repair times: a mixture of three invented repair routes.
-
-    Examples
-    --------
-    >>> hours = repair_hours()
-    >>> hours.size, float(hours.min()) > 0
-    (64, True)
-    """
-    gen = np.random.default_rng(rng)
-    route = gen.choice(3, size=n, p=[0.6, 0.3, 0.1])
-    quick = gen.gamma(4.0, 0.8, size=n)  # on-site fix
-    part = 18 + gen.gamma(3.0, 6.0, size=n)  # waiting for a part
-    specialist = 50 + gen.exponential(25.0, size=n)  # waiting for a specialist
-    hours = np.choose(route, [quick, part, specialist])
-    return np.maximum(np.round(hours * 2) / 2, 0.5)
 
 
 def csv_text() -> str:
