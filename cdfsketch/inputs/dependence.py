@@ -296,11 +296,13 @@ def _scipy_special() -> Any:
 
 
 def iman_conover(u: np.ndarray, target: np.ndarray) -> np.ndarray:
-    """Reorder each column of ``u`` (m, k) so their ranks carry the Spearman ``target``.
+    """Reorder each column of ``u`` (m, k) so their normal scores correlate as ``target``.
 
     Iman & Conover (1982): van der Waerden scores ``Φ⁻¹(i/(m+1))`` placed in
     the rank order of each column, decorrelated by their own sample
-    correlation's Cholesky factor and mixed by the target's; each column of
+    correlation's Cholesky factor and mixed by ``target``'s (a Pearson matrix
+    of the scores: pass :func:`copula_correlation` of a Spearman target to
+    meet the Spearman values); each column of
     ``u`` is then rearranged to follow the ranks of the result. A column's
     values are kept exactly (only their order changes). Blocks with fewer
     than ``k + 2`` rows are returned unchanged (their scores cannot be
@@ -309,7 +311,7 @@ def iman_conover(u: np.ndarray, target: np.ndarray) -> np.ndarray:
     Examples
     --------
     >>> u = np.random.default_rng(1).random((5000, 2))
-    >>> out = iman_conover(u, np.array([[1, 0.7], [0.7, 1]]))
+    >>> out = iman_conover(u, copula_correlation(np.array([[1, 0.7], [0.7, 1]])))
     >>> bool(np.array_equal(np.sort(out, axis=0), np.sort(u, axis=0)))
     True
     >>> round(float(spearman([out[:, 0], out[:, 1]])[0, 1]), 2)
@@ -352,22 +354,23 @@ def copula_correlation(target: np.ndarray) -> np.ndarray:
 
 
 def gaussian_copula(u: np.ndarray, target: np.ndarray) -> np.ndarray:
-    """Uniforms (m, k) given the Spearman ``target`` through a Gaussian copula.
+    """Uniforms (m, k) through a Gaussian copula with normal correlation ``target``.
 
     Normal scores ``Φ⁻¹(u)`` are mixed by the lower Cholesky factor of
-    :func:`copula_correlation` and mapped back with ``Φ``. The first column
+    ``target`` (pass :func:`copula_correlation` of a Spearman target) and
+    mapped back with ``Φ``. The first column
     keeps its values up to the rounding of ``Φ(Φ⁻¹(u))``; the others get new
     values (still uniform), so a Latin hypercube's strata survive only in it.
 
     Examples
     --------
     >>> u = np.random.default_rng(2).random((20000, 2))
-    >>> out = gaussian_copula(u, np.array([[1, 0.5], [0.5, 1]]))
+    >>> out = gaussian_copula(u, copula_correlation(np.array([[1, 0.5], [0.5, 1]])))
     >>> round(float(spearman([out[:, 0], out[:, 1]])[0, 1]), 1)
     0.5
     """
     special = _scipy_special()
-    z = special.ndtri(u) @ _factor(copula_correlation(target)).T
+    z = special.ndtri(u) @ _factor(target).T
     return special.ndtr(z)
 
 
