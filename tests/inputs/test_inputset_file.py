@@ -86,6 +86,11 @@ def spec_doc():
     return base_doc()["inputs"][0]["spec"]
 
 
+def by_path(doc, path):
+    doc["inputs"][0].pop("spec")
+    doc["inputs"][0]["path"] = path
+
+
 BAD = [
     ("format", lambda d: d.update(format="cdfsketch-spec"), "format"),
     ("version", lambda d: d.update(version=2), "version"),
@@ -95,9 +100,9 @@ BAD = [
     ("neither", lambda d: d["inputs"][0].pop("spec"), "inputs[0]"),
     ("empty name", lambda d: d["inputs"][0].update(name=""), "inputs[0]"),
     ("duplicate", lambda d: d["inputs"][1].update(name="repair_hours"), "inputs[1].name"),
-    ("absolute", lambda d: d["inputs"][0].pop("spec") and None or d["inputs"][0].update(path="/etc/x.json"), "inputs[0].path"),
-    ("dotdot", lambda d: d["inputs"][0].pop("spec") and None or d["inputs"][0].update(path="../x.json"), "inputs[0].path"),
-    ("windows drive", lambda d: d["inputs"][0].pop("spec") and None or d["inputs"][0].update(path="C:x.json"), "inputs[0].path"),
+    ("absolute", lambda d: by_path(d, "/etc/x.json"), "inputs[0].path"),
+    ("dotdot", lambda d: by_path(d, "../x.json"), "inputs[0].path"),
+    ("windows drive", lambda d: by_path(d, "C:x.json"), "inputs[0].path"),
     ("pair key", lambda d: d["rank_corr"][0].update(c=1), "rank_corr[0]"),
     ("pair range", lambda d: d["rank_corr"][0].update(rank_corr=1.5), "rank_corr"),
     ("pair name", lambda d: d["rank_corr"][0].update(a="nobody"), "rank_corr"),
