@@ -34,24 +34,31 @@ import math
 import os
 import re
 import secrets
-import shutil
 import sys
 import tempfile
 import warnings
-from collections.abc import Callable, Iterator, Sequence
+from collections.abc import Callable, Sequence
 from datetime import UTC, datetime
 from pathlib import Path
 from typing import Any, NoReturn
 
 import numpy as np
 
-from ._files import check_output_path
+from ._files import check_output_path, write_text
 from ._limits import MAX_SPEC_BYTES
 from ._numfmt import significant
 from ._validate import InputError, SpecError, quote
 from ._version import __version__
 from .inputs import INPUTSET_FORMAT, WINDOW, InputSet, inputset_from_dict, spec_digest
-from .inputs.output import SUFFIXES, bytes_per_value, sidecar_path, write_draws
+from .inputs.describe import finite_list, inputset_record, plain, quantile_table, sketch_record
+from .inputs.output import (
+    SUFFIXES,
+    draw_blocks,
+    progress_bar,
+    sidecar_path,
+    space_problem,
+    write_draws,
+)
 from .sketch import Sketch
 
 __all__ = ["main"]
@@ -233,44 +240,6 @@ def _output(text: str | None, suffixes: Sequence[str], option: str) -> Path | No
     return out
 
 
-def _check_space(out: Path | None, n: int, columns: int, block: int) -> None:
-    """Refuse a run that cannot fit on disk or in memory, before drawing anything."""
-    if out is not None:
-        need = n * columns * bytes_per_value(out.suffix.lower())
-        free = shutil.disk_usage(out.parent if str(out.parent) else ".").free
-        if need > free:
-            raise _Exit(
-                2,
-                f"--size: {n:,} draws of {columns} input(s) need about {_bytes(need)} in "
-                f"{str(out)!r}, but only {_bytes(free)} are free there. Lower --size or write "
-                "elsewhere.",
-            )
-    work = columns * (WINDOW + block) * 8 * 4
-    avail = _available_memory()
-    if avail is not None and work > avail:
-        raise _Exit(
-            2,
-            f"--block: sampling {columns} input(s) in blocks of {block:,} needs about "
-            f"{_bytes(work)} of memory; {_bytes(avail)} are available. Lower --block or split "
-            "the input set.",
-        )
-
-
-def _available_memory() -> int | None:
-    try:
-        return os.sysconf("SC_AVPHYS_PAGES") * os.sysconf("SC_PAGE_SIZE")
-    except (ValueError, OSError, AttributeError):
-        return None
-
-
-def _bytes(n: float) -> str:
-    for unit in ("bytes", "kB", "MB", "GB", "TB", "PB"):
-        if n < 1000 or unit == "PB":
-            return f"{n:.0f} {unit}" if unit == "bytes" else f"{n:.1f} {unit}"
-        n /= 1000
-    raise AssertionError
-
-
 # ---------------------------------------------------------------- commands
 
 
@@ -290,55 +259,25 @@ def _cmd_check(args: argparse.Namespace) -> int:
     return 1 if failed else 0
 
 
-def _sketch_record(sk: Sketch) -> dict[str, Any]:
-    s = sk.summary()
-    lo, hi = s.support
-    return {
-        "name": s.name,
-        "units": s.units,
-        "support": [lo if math.isfinite(lo) else None, hi if math.isfinite(hi) else None],
-        "mean": s.mean,
-        "sd": s.sd,
-        "quantiles": [{"p": p, "x": x} for p, x in s.quantiles],
-        "atoms": [{"x": a.x, "mass": a.mass} for a in s.atoms],
-        "tails": {
-            side: {"mass": m, "model": model}
-            for side, m, model in zip(("lower", "upper"), s.tail_mass, s.tail_models, strict=True)
-        },
-        "warnings": list(s.warnings),
-        "provenance": _plain(sk.provenance),
-        "sha256": spec_digest(sk),
-    }
-
-
-def _plain(obj: Any) -> Any:
-    return json.loads(json.dumps(obj, default=str))
-
-
 def _cmd_describe(args: argparse.Namespace) -> int:
     obj = _open(args.file)
     if isinstance(obj, Sketch):
         if args.json:
-            print(json.dumps(_sketch_record(obj), indent=2, ensure_ascii=False))
+            print(json.dumps(sketch_record(obj), indent=2, ensure_ascii=False))
         else:
             print(obj.summary())
             digest = spec_digest(obj)
             print(f"  {'sha256':<19}  {digest}")
             for key, value in obj.provenance.items():
-                print(f"  {'provenance.' + key:<19}  {_one_line(quote(_plain(value), limit=120))}")
+                print(f"  {'provenance.' + key:<19}  {_one_line(quote(plain(value), limit=120))}")
         return 0
     if args.json:
-        record = {
-            "name": obj.name,
-            "inputs": [{"input": n, **_sketch_record(obj.sketches[n])} for n in obj.names],
-            "rank_corr": [{"a": a, "b": b, "rank_corr": v} for (a, b), v in obj.rank_corr.items()],
-            "provenance": _plain(obj.provenance),
-        }
+        record = inputset_record(obj)
         print(json.dumps(record, indent=2, ensure_ascii=False))
         return 0
     print(f"Input set {obj.name or args.file!s}: {len(obj)} input(s)")
     for key, value in obj.provenance.items():
-        print(f"  provenance.{key}: {_one_line(quote(_plain(value), limit=120))}")
+        print(f"  provenance.{key}: {_one_line(quote(plain(value), limit=120))}")
     for a_b, v in obj.rank_corr.items():
         print(f"  rank correlation {a_b[0]} ~ {a_b[1]}: {significant(v)} (Spearman target)")
     for n in obj.names:
@@ -354,7 +293,7 @@ def _cmd_quantiles(args: argparse.Namespace) -> int:
     u = np.asarray(args.u, dtype=float)
     values = {n: np.atleast_1d(sk.ppf(u)) for n, sk in sketches.items()}
     if args.json:
-        print(json.dumps({"u": u.tolist(), "x": {n: _finite(v) for n, v in values.items()}}))
+        print(json.dumps({"u": u.tolist(), "x": {n: finite_list(v) for n, v in values.items()}}))
         return 0
     if isinstance(obj, Sketch):
         for p, x in zip(args.u, values[next(iter(values))], strict=True):
@@ -366,70 +305,19 @@ def _cmd_quantiles(args: argparse.Namespace) -> int:
     return 0
 
 
-def _finite(v: np.ndarray) -> list[Any]:
-    return [float(x) if math.isfinite(x) else ("-inf" if x < 0 else "inf") for x in v]
-
-
-def _table_grid(sketches: dict[str, Sketch], n: int) -> np.ndarray:
-    """u = i/(N-1); an end whose quantile is infinite moves in by half a step."""
-    u = np.arange(n) / (n - 1)
-    half = 0.5 / (n - 1)
-    if any(not math.isfinite(sk.support[0]) for sk in sketches.values()):
-        u[0] = half
-    if any(not math.isfinite(sk.support[1]) for sk in sketches.values()):
-        u[-1] = 1.0 - half
-    return u
-
-
 def _cmd_table(args: argparse.Namespace) -> int:
     out = _output(args.out, (".csv",), "--out")
     obj = _open(args.file)
     sketches = {_column(Path(args.file)): obj} if isinstance(obj, Sketch) else dict(obj.sketches)
-    n = args.points
-    u = _table_grid(sketches, n)
-    cols = {name: np.asarray(sk.ppf(u), dtype=float) for name, sk in sketches.items()}
-    step_u = float(np.max(np.diff(u)))
-    lines = [
-        f"# cdfsketch {__version__} quantile table from {Path(args.file).name}, {n} rows: "
-        "u and each input's exact quantile x at u.",
-        f"# Read it by linear interpolation in u between rows (u from {float(u[0])!r} to "
-        f"{float(u[-1])!r}).",
-        "# Exact error bound: the distribution so read differs from the sketch by at most "
-        f"{significant(step_u)} in probability (Kolmogorov distance <= the largest step in u, "
-        "since both CDFs lie between the two rows' u at every x).",
-    ]
-    for name, x in cols.items():
-        sk = sketches[name]
-        gap = float(np.max(np.diff(x)))
-        units = f" {sk.units}" if sk.units else ""
-        lines.append(
-            f"# {name}: sha256 {spec_digest(sk)}; between rows the interpolated quantile is "
-            f"within {significant(gap)}{units} of the exact one (both lie between the rows' x)."
-        )
-    header = io_csv_row(["u", *cols])
-    body = np.column_stack([u, *cols.values()])
-    text = "\n".join([*lines, header]) + "\n"
-    text += "".join(",".join(repr(float(v)) for v in row) + "\n" for row in body)
+    text = quantile_table(sketches, args.points, source=Path(args.file).name)
     if out is None:
         sys.stdout.write(text)
         return 0
-    from ._files import write_text
-
     try:
         write_text(out, text)
     except OSError as exc:
         raise _Exit(2, f"--out: {exc}") from None
     return 0
-
-
-def io_csv_row(cells: Sequence[str]) -> str:
-    """One CSV row (names with commas or quotes are quoted)."""
-    import csv
-    import io
-
-    buf = io.StringIO()
-    csv.writer(buf, lineterminator="").writerow(cells)
-    return buf.getvalue()
 
 
 def _cmd_sample(args: argparse.Namespace) -> int:
@@ -450,11 +338,13 @@ def _cmd_sample(args: argparse.Namespace) -> int:
     else:
         names = obj.names
         digests = {n: spec_digest(obj.sketches[n]) for n in names}
-    _check_space(out, n, len(names), block)
+    problem = space_problem(out, n, len(names), block)
+    if problem:
+        raise _Exit(2, problem)
     try:
         with warnings.catch_warnings(record=True) as caught:
             warnings.simplefilter("always")
-            blocks = _blocks(obj, names, n, block, seed, args.design, args.dependence)
+            blocks = draw_blocks(obj, names, n, block, seed, args.design, args.dependence)
         for w in caught:
             print(_one_line(f"cdfsketch sample: warning: {w.message}"), file=sys.stderr)
     except InputError as exc:
@@ -472,7 +362,7 @@ def _cmd_sample(args: argparse.Namespace) -> int:
         "spec_sha256": digests,
         "created": datetime.now(UTC).isoformat(timespec="seconds"),
     }
-    bar = _bar(n, args.quiet)
+    bar = progress_bar(n, quiet=args.quiet)
     try:
         write_draws(out, names, blocks, n, record, flat=isinstance(obj, Sketch), tick=bar.update)
     except BrokenPipeError:
@@ -482,55 +372,6 @@ def _cmd_sample(args: argparse.Namespace) -> int:
     finally:
         bar.close()
     return 0
-
-
-def _blocks(
-    obj: Sketch | InputSet,
-    names: tuple[str, ...],
-    n: int,
-    block: int,
-    seed: int,
-    design: str,
-    dependence: str,
-) -> Iterator[dict[str, np.ndarray]]:
-    """The draws in blocks; a single spec with the random design equals ``load(f).sample(n)``."""
-    if isinstance(obj, Sketch):
-        if design == "random":
-            return _sketch_blocks(obj, names[0], n, block, seed)
-        obj = InputSet({names[0]: obj})
-    return iter(obj.blocks(n, block=block, rng=seed, design=design, dependence=dependence))
-
-
-def _sketch_blocks(
-    sk: Sketch, name: str, n: int, block: int, seed: int
-) -> Iterator[dict[str, np.ndarray]]:
-    sampler = sk.sampler()
-    gen = np.random.default_rng(seed)  # one stream, continued block after block
-    for lo in range(0, n, block):
-        yield {name: sampler.sample(min(block, n - lo), rng=gen)}
-
-
-class _NoBar:
-    def update(self, k: int) -> None:
-        return None
-
-    def close(self) -> None:
-        return None
-
-
-def _bar(total: int, quiet: bool) -> Any:
-    """A tqdm bar on stderr after one second (terminals only); none without tqdm."""
-    if quiet or not sys.stderr.isatty():
-        return _NoBar()
-    from ._extras import need
-
-    try:
-        tqdm = need("progress", "tqdm")
-    except ImportError:
-        return _NoBar()
-    return tqdm.tqdm(
-        total=total, delay=1.0, file=sys.stderr, unit=" draws", unit_scale=True, leave=False
-    )
 
 
 # ---------------------------------------------------------------- the parser

@@ -27,6 +27,7 @@ import csv
 import io
 import json
 import os
+import shutil
 import sys
 import tempfile
 from collections.abc import Callable, Iterable, Iterator, Mapping, Sequence
@@ -37,8 +38,18 @@ from typing import IO, Any
 import numpy as np
 
 from .._files import write_text
+from ..sketch import Sketch
+from .inputset import InputSet
 
-__all__ = ["SUFFIXES", "bytes_per_value", "sidecar_path", "write_draws"]
+__all__ = [
+    "SUFFIXES",
+    "bytes_per_value",
+    "draw_blocks",
+    "progress_bar",
+    "sidecar_path",
+    "space_problem",
+    "write_draws",
+]
 
 SUFFIXES = (".npy", ".csv", ".parquet")
 RECORD_KEY = "cdfsketch"
@@ -54,6 +65,49 @@ def sidecar_path(out: Path) -> Path | None:
 def bytes_per_value(suffix: str | None) -> int:
     """About how many bytes one draw takes in a file of this kind (for a space check)."""
     return 8 if suffix in (".npy", ".parquet") else 24
+
+
+def space_problem(out: Path | None, n: int, columns: int, block: int) -> str | None:
+    """Why ``n`` draws of ``columns`` inputs cannot be written (disk) or made (memory), if so.
+
+    Checked before anything is drawn. Memory is about four float arrays per
+    input of one window (2¹⁶) plus one block.
+    """
+    from .designs import WINDOW
+
+    if out is not None:
+        need = n * columns * bytes_per_value(out.suffix.lower())
+        free = shutil.disk_usage(out.parent if str(out.parent) else ".").free
+        if need > free:
+            return (
+                f"--size: {n:,} draws of {columns} input(s) need about {_bytes(need)} in "
+                f"{str(out)!r}, but only {_bytes(free)} are free there. Lower --size or write "
+                "elsewhere."
+            )
+    work = columns * (WINDOW + block) * 8 * 4
+    avail = _available_memory()
+    if avail is not None and work > avail:
+        return (
+            f"--block: sampling {columns} input(s) in blocks of {block:,} needs about "
+            f"{_bytes(work)} of memory; {_bytes(avail)} are available. Lower --block or split "
+            "the input set."
+        )
+    return None
+
+
+def _available_memory() -> int | None:
+    try:
+        return os.sysconf("SC_AVPHYS_PAGES") * os.sysconf("SC_PAGE_SIZE")
+    except (ValueError, OSError, AttributeError):
+        return None
+
+
+def _bytes(n: float) -> str:
+    for unit in ("bytes", "kB", "MB", "GB", "TB"):
+        if n < 1000:
+            return f"{n:.0f} {unit}" if unit == "bytes" else f"{n:.1f} {unit}"
+        n /= 1000
+    return f"{n:.1f} PB"
 
 
 @contextmanager
@@ -159,3 +213,52 @@ def _write_parquet(
                 tick(table.num_rows)
         finally:
             writer.close()
+
+
+def draw_blocks(
+    obj: Sketch | InputSet,
+    names: tuple[str, ...],
+    n: int,
+    block: int,
+    seed: int,
+    design: str,
+    dependence: str,
+) -> Iterator[dict[str, np.ndarray]]:
+    """The draws in blocks; a single spec with the random design equals ``load(f).sample(n)``."""
+    if isinstance(obj, Sketch):
+        if design == "random":
+            return _sketch_blocks(obj, names[0], n, block, seed)
+        obj = InputSet({names[0]: obj})
+    return iter(obj.blocks(n, block=block, rng=seed, design=design, dependence=dependence))
+
+
+def _sketch_blocks(
+    sk: Sketch, name: str, n: int, block: int, seed: int
+) -> Iterator[dict[str, np.ndarray]]:
+    sampler = sk.sampler()
+    gen = np.random.default_rng(seed)  # one stream, continued block after block
+    for lo in range(0, n, block):
+        yield {name: sampler.sample(min(block, n - lo), rng=gen)}
+
+
+class _NoBar:
+    def update(self, k: int) -> None:
+        return None
+
+    def close(self) -> None:
+        return None
+
+
+def progress_bar(total: int, *, quiet: bool = False) -> Any:
+    """A tqdm bar on stderr after one second (terminals only); none without tqdm."""
+    if quiet or not sys.stderr.isatty():
+        return _NoBar()
+    from .._extras import need
+
+    try:
+        tqdm = need("progress", "tqdm")
+    except ImportError:
+        return _NoBar()
+    return tqdm.tqdm(
+        total=total, delay=1.0, file=sys.stderr, unit=" draws", unit_scale=True, leave=False
+    )
