@@ -287,13 +287,13 @@ class InputSet:
             m = min(WINDOW, n - start)
             u = design_uniforms(design, self._names, root, k, m)
             if group:
-                block = np.column_stack([u[g] for g in group])
+                block = np.vstack([u[g] for g in group])  # one row per input
                 if dependence == "iman-conover":
                     block = iman_conover(block, normal)
                 else:
                     block = clip_open(gaussian_copula(block, normal))
                 for j, g in enumerate(group):
-                    u[g] = np.ascontiguousarray(block[:, j])
+                    u[g] = block[j]
             yield start, u
 
     def _values(
