@@ -289,6 +289,36 @@ def spearman(columns: Sequence[np.ndarray]) -> np.ndarray:
 # ---------------------------------------------------------------- imposing
 
 
+_SIGN = np.uint64(1 << 63)
+_LOW16 = np.uint64(0xFFFF)
+
+
+def _order(x: np.ndarray) -> np.ndarray:
+    """``argsort`` of a float row of at most 2¹⁶ values, by one plain sort of packed keys.
+
+    Each value's bits are mapped to an unsigned key of the same order, its
+    low 16 bits replaced by the value's index, and the keys sorted (numpy's
+    plain sort is several times faster than its argsort). Values that agree
+    in all but their last 16 bits (a relative difference below 2⁻³⁶) come
+    out in index order (and -0.0 before 0.0); for ranks of continuous draws
+    that does not matter.
+    Deterministic on every platform (integer arithmetic only).
+
+    Examples
+    --------
+    >>> _order(np.array([0.5, -2.0, 3.0, 0.0])).tolist()
+    [1, 3, 0, 2]
+    """
+    if x.size > 1 << 16:
+        return np.argsort(x, kind="stable")
+    bits = np.ascontiguousarray(x, dtype=np.float64).view(np.uint64)
+    key = np.where(bits & _SIGN, ~bits, bits | _SIGN)
+    key &= ~_LOW16
+    key |= np.arange(x.size, dtype=np.uint64)
+    key.sort()
+    return (key & _LOW16).astype(np.intp)
+
+
 def _scipy_special() -> Any:
     from .._extras import need
 
@@ -321,7 +351,7 @@ def iman_conover(u: np.ndarray, target: np.ndarray) -> np.ndarray:
         return u.copy()
     special = _scipy_special()
     scores = special.ndtri(np.arange(1, m + 1) / (m + 1.0))
-    order_u = np.argsort(u, axis=1)  # rows are contiguous: fast sorts
+    order_u = [_order(row) for row in u]
     s = np.empty_like(u)
     for j in range(k):
         s[j, order_u[j]] = scores
@@ -333,7 +363,7 @@ def iman_conover(u: np.ndarray, target: np.ndarray) -> np.ndarray:
     t = _factor(target) @ np.linalg.solve(q, s)
     out = np.empty_like(u)
     for j in range(k):
-        out[j, np.argsort(t[j])] = u[j, order_u[j]]
+        out[j, _order(t[j])] = u[j, order_u[j]]
     return out
 
 

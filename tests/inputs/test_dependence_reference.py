@@ -128,3 +128,17 @@ def test_perfect_rank_correlation_is_allowed():
     ins = InputSet({"a": A, "b": B}, rank_corr={("a", "b"): 1.0})
     row = ins.sample(10_000, rng=1).rank_corr_report()[0]
     assert row.achieved > 0.999
+
+
+def test_packed_order_equals_argsort():
+    from cdfsketch.inputs.dependence import _order
+
+    rng = np.random.default_rng(3)
+    for x in (
+        rng.random(65536),
+        rng.normal(size=1000) * 1e6,
+        -rng.random(5),
+    ):
+        np.testing.assert_array_equal(_order(x), np.argsort(x, kind="stable"))
+    big = rng.random(70_000)  # beyond 2^16 values: plain argsort
+    np.testing.assert_array_equal(_order(big), np.argsort(big, kind="stable"))
