@@ -191,6 +191,12 @@ class InputSet:
 
     __hash__ = None  # type: ignore[assignment]
 
+    def __reduce__(self) -> Any:  # for Dask workers and multiprocessing
+        return (
+            _rebuild,
+            (dict(self._sketches), dict(self._rank_corr), self._name, thaw(self._provenance)),
+        )
+
     # ------------------------------------------------------------ changed copies
     def with_sketch(self, name: str, sketch: Sketch) -> InputSet:
         """A copy with input ``name`` set to ``sketch`` (added at the end if new).
@@ -459,6 +465,10 @@ class InputSet:
         from .file import dump_inputset
 
         return dump_inputset(self, path)
+
+
+def _rebuild(sketches: dict[str, Sketch], rank_corr: dict, name: str, provenance: dict) -> InputSet:
+    return InputSet(sketches, rank_corr=rank_corr, name=name, provenance=provenance)
 
 
 def _check_provenance(provenance: Any) -> Mapping[str, Any]:
