@@ -320,18 +320,26 @@ def _cmd_table(args: argparse.Namespace) -> int:
     return 0
 
 
+def _need(option: str, extra: str, module: str) -> None:
+    from ._extras import need
+
+    try:
+        need(extra, module)
+    except ImportError as exc:
+        raise _Exit(2, f"{option}: {exc}") from None
+
+
 def _cmd_sample(args: argparse.Namespace) -> int:
     n, block = args.size, args.block
     seed = args.seed if args.seed is not None else secrets.randbits(63)
     out = _output(args.out, SUFFIXES, "--out")
     if out is not None and out.suffix.lower() == ".parquet":
-        from ._extras import need
-
-        try:
-            need("parquet", "pyarrow")
-        except ImportError as exc:
-            raise _Exit(2, f"--out: {exc}") from None
+        _need("--out", "parquet", "pyarrow")
     obj = _open(args.file)
+    if args.design != "random":
+        _need("--design", "fit", "scipy")
+    elif isinstance(obj, InputSet) and obj.dependent and args.dependence != "independent":
+        _need("--dependence", "fit", "scipy")
     if isinstance(obj, Sketch):
         names: tuple[str, ...] = (_column(Path(args.file)),)
         digests = {names[0]: spec_digest(obj)}

@@ -286,11 +286,19 @@ def test_user_errors_are_one_line_with_documented_codes(tmp_path, label, args, c
     assert leftovers == []
 
 
-def test_missing_parquet_extra_is_one_line(tmp_path):
+@pytest.mark.parametrize(
+    ("module", "args", "extra"),
+    [
+        ("pyarrow", [str(GOLDEN), "-o", "{tmp}/d.parquet"], "parquet"),
+        ("scipy", [str(GOLDEN), "--design", "lhs"], "fit"),
+        ("scipy", [str(SET)], "fit"),  # rank correlations need scipy
+    ],
+)
+def test_missing_extras_are_one_line(tmp_path, module, args, extra):
+    argv = ["sample", "--size", "5", *(a.format(tmp=tmp_path) for a in args)]
     code = (
-        "import sys; sys.modules['pyarrow'] = None; from cdfsketch.cli import main; "
-        f"sys.exit(main(['sample', {str(GOLDEN)!r}, '--size', '5', '-o', "
-        f"{str(tmp_path / 'd.parquet')!r}]))"
+        f"import sys; sys.modules[{module!r}] = None; from cdfsketch.cli import main; "
+        f"sys.exit(main({argv!r}))"
     )
     res = subprocess.run(
         [sys.executable, "-c", code],
@@ -299,7 +307,7 @@ def test_missing_parquet_extra_is_one_line(tmp_path):
         env={**os.environ, "PYTHONPATH": str(ROOT)},
     )
     assert res.returncode == 2 and len(res.stderr.splitlines()) == 1
-    assert "cdfsketch[parquet]" in res.stderr and "Traceback" not in res.stderr
+    assert f"cdfsketch[{extra}]" in res.stderr and "Traceback" not in res.stderr
 
 
 def test_sobol_size_warning_is_one_line_and_run_succeeds(tmp_path):
