@@ -24,6 +24,7 @@ from .file import (
     INPUTSET_FORMAT,
     INPUTSET_VERSION,
     inputset_from_dict,
+    inputset_schema,
     read_inputset,
     spec_digest,
 )
@@ -40,6 +41,7 @@ __all__ = [
     "InputSet",
     "RankCorrRow",
     "inputset_from_dict",
+    "inputset_schema",
     "nearest_correlation",
     "nearest_rank_corr",
     "read_inputset",

@@ -46,6 +46,7 @@ __all__ = [
     "INPUTSET_VERSION",
     "dump_inputset",
     "inputset_from_dict",
+    "inputset_schema",
     "inputset_to_dict",
     "read_inputset",
     "spec_digest",
@@ -55,6 +56,17 @@ INPUTSET_FORMAT = "cdfsketch-inputs"
 INPUTSET_VERSION = 1
 _TOP = ("format", "version", "name", "inputs", "rank_corr", "provenance")
 SCHEMA_PATH = Path(__file__).parents[1] / "spec" / "schemas" / "inputs-v1.schema.json"
+
+
+def inputset_schema() -> dict[str, Any]:
+    """The JSON Schema (draft 2020-12) of the input-set file, version 1.
+
+    Examples
+    --------
+    >>> inputset_schema()["properties"]["format"]
+    {'const': 'cdfsketch-inputs'}
+    """
+    return json.loads(SCHEMA_PATH.read_text(encoding="utf-8"))
 
 
 # ---------------------------------------------------------------- the one door to single specs

@@ -11,8 +11,13 @@ import pytest
 
 from cdfsketch import Sketch
 from cdfsketch._validate import SpecError
-from cdfsketch.inputs import INPUTSET_FORMAT, InputSet, inputset_from_dict, read_inputset
-from cdfsketch.inputs.file import SCHEMA_PATH
+from cdfsketch.inputs import (
+    INPUTSET_FORMAT,
+    InputSet,
+    inputset_from_dict,
+    inputset_schema,
+    read_inputset,
+)
 
 DATA = Path(__file__).parents[1] / "data"
 GOLDEN = sorted(DATA.glob("inputs-v1-*.json"))
@@ -21,8 +26,21 @@ GOLDEN = sorted(DATA.glob("inputs-v1-*.json"))
 def schema_errors(doc):
     import jsonschema
 
-    validator = jsonschema.Draft202012Validator(json.loads(SCHEMA_PATH.read_text()))
+    validator = jsonschema.Draft202012Validator(inputset_schema())
     return list(validator.iter_errors(doc))
+
+
+def test_schema_limits_agree_with_the_limit_table():
+    from cdfsketch._limits import MAX_NAME_CHARS
+    from cdfsketch.inputs import MAX_INPUTS
+
+    sch = inputset_schema()
+    assert sch["$schema"] == "https://json-schema.org/draft/2020-12/schema"
+    jsonschema = pytest.importorskip("jsonschema")
+    jsonschema.Draft202012Validator.check_schema(sch)
+    assert sch["properties"]["name"]["maxLength"] == MAX_NAME_CHARS
+    assert sch["$defs"]["input"]["properties"]["name"]["maxLength"] == MAX_NAME_CHARS
+    assert sch["properties"]["inputs"]["maxItems"] == MAX_INPUTS
 
 
 def test_golden_files_exist():
