@@ -426,7 +426,8 @@ class InputSet:
             pos = 0
             while pos < m:
                 take = min(b - have, m - pos)
-                pending.append({k: v[pos : pos + take] for k, v in vals.items()})
+                whole = take == m  # a whole window: passed on without a copy
+                pending.append({k: v if whole else v[pos : pos + take] for k, v in vals.items()})
                 have += take
                 pos += take
                 if have == b:
@@ -436,6 +437,8 @@ class InputSet:
             yield self._join(pending)
 
     def _join(self, parts: list[dict[str, np.ndarray]]) -> Draws:
+        if len(parts) == 1 and all(v.base is None for v in parts[0].values()):
+            return Draws({k: parts[0][k] for k in self._names}, self._rank_corr)
         return Draws(
             {k: np.concatenate([p[k] for p in parts]) for k in self._names}, self._rank_corr
         )
