@@ -360,7 +360,7 @@ def iman_conover(u: np.ndarray, target: np.ndarray) -> np.ndarray:
         q = np.linalg.cholesky(e)
     except np.linalg.LinAlgError:
         return u.copy()
-    t = _factor(target) @ np.linalg.solve(q, s)
+    t = (_factor(target) @ np.linalg.inv(q)) @ s  # one k×k matrix, then one product
     out = np.empty_like(u)
     for j in range(k):
         out[j, _order(t[j])] = u[j, order_u[j]]
