@@ -1,0 +1,207 @@
+"""InputSet: construction, streams rule, blocks, designs, uniforms ↔ sample."""
+
+from __future__ import annotations
+
+import warnings
+
+import numpy as np
+import pytest
+
+from cdfsketch import Sketch
+from cdfsketch._validate import InputError
+from cdfsketch.inputs import WINDOW, Draws, InputSet
+
+HOURS = Sketch([1, 3, 9], [0, 0.6, 1], name="repair time", units="h")
+COST = Sketch([100, 250, 900], [0, 0.5, 1], interpolation="pchip", name="part cost")
+DELAY = Sketch([0, 2, 5], [0.1, 0.5, 0.9], name="delay")  # tails past 0.1 and 0.9
+
+
+def make(**kw):
+    return InputSet({"hours": HOURS, "cost": COST, "delay": DELAY}, **kw)
+
+
+# ---------------------------------------------------------------- the value
+
+
+def test_names_sketches_read_only():
+    ins = make(rank_corr={("cost", "hours"): 0.5})
+    assert ins.names == ("hours", "cost", "delay")
+    assert ins.rank_corr == {("cost", "hours"): 0.5}
+    assert ins.dependent == ("cost", "hours")
+    with pytest.raises(TypeError):
+        ins.sketches["x"] = HOURS
+    with pytest.raises(AttributeError):
+        ins.name = "x"
+    with pytest.raises(TypeError):
+        ins.provenance["a"] = 1
+
+
+def test_provenance_frozen_deep_and_copied():
+    prov = {"author": "A", "extra": {"runs": [1, 2]}}
+    ins = make(provenance=prov)
+    prov["extra"]["runs"].append(3)
+    assert ins.provenance["extra"]["runs"] == (1, 2)
+    with pytest.raises(TypeError):
+        ins.provenance["extra"]["k"] = 1
+
+
+@pytest.mark.parametrize(
+    ("kwargs", "field"),
+    [
+        ({"sketches": {}}, "sketches"),
+        ({"sketches": {"": HOURS}}, "input name"),
+        ({"sketches": {"a": 3.0}}, "sketches"),
+        ({"sketches": {"a": HOURS}, "name": 5}, "name"),
+        ({"sketches": {"a": HOURS}, "provenance": {"x": object()}}, "provenance"),
+        ({"sketches": {"a": HOURS}, "provenance": {"x": float("nan")}}, "provenance"),
+        ({"sketches": {"a": HOURS, "b": COST}, "rank_corr": {("a", "c"): 0.5}}, "rank_corr"),
+        ({"sketches": {"a": HOURS, "b": COST}, "rank_corr": {("a", "a"): 0.5}}, "rank_corr"),
+        ({"sketches": {"a": HOURS, "b": COST}, "rank_corr": {("a", "b"): 1.5}}, "rank_corr"),
+        ({"sketches": {"a": HOURS, "b": COST}, "rank_corr": {("a", "b"): True}}, "rank_corr"),
+        (
+            {"sketches": {"a": HOURS, "b": COST}, "rank_corr": {("a", "b"): 0.5, ("b", "a"): 0.4}},
+            "rank_corr",
+        ),
+        ({"sketches": {"a": HOURS, "b": COST}, "rank_corr": [("a", "b", 0.5)]}, "rank_corr"),
+    ],
+)
+def test_bad_arguments_name_the_field(kwargs, field):
+    sketches = kwargs.pop("sketches")
+    with pytest.raises(InputError) as info:
+        InputSet(sketches, **kwargs)
+    assert info.value.field.startswith(field)
+    assert len(str(info.value)) < 600
+
+
+def test_not_psd_target_shows_nearest():
+    bad = {("a", "b"): 0.9, ("a", "c"): 0.9, ("b", "c"): -0.9}
+    with pytest.raises(InputError) as info:
+        InputSet({"a": HOURS, "b": COST, "c": DELAY}, rank_corr=bad)
+    msg = str(info.value)
+    assert "positive semi-definite" in msg and "Higham" in msg
+    near = info.value.nearest
+    InputSet({"a": HOURS, "b": COST, "c": DELAY}, rank_corr=near)  # accepted
+
+
+def test_changed_copies():
+    ins = make(rank_corr={("cost", "hours"): 0.5})
+    other = ins.with_sketch("hours", DELAY)
+    assert other.sketches["hours"] is DELAY and ins.sketches["hours"] is HOURS
+    assert ins.replace("hours", DELAY) == other
+    assert ins.without("hours").names == ("cost", "delay")
+    assert ins.without("hours").rank_corr == {}
+    assert ins.replace(name="m").name == "m"
+
+
+# ---------------------------------------------------------------- streams
+
+
+@pytest.mark.parametrize("design", ["random", "lhs"])
+def test_streams_rule_add_remove_reorder(design):
+    full = make(rank_corr={("cost", "hours"): 0.5})
+    base = full.sample(1000, rng=11, design=design)
+    reordered = InputSet(
+        {"delay": DELAY, "cost": COST, "hours": HOURS}, rank_corr={("hours", "cost"): 0.5}
+    ).sample(1000, rng=11, design=design)
+    for name in full.names:
+        np.testing.assert_array_equal(base[name], reordered[name])
+    removed = full.without("delay").sample(1000, rng=11, design=design)
+    added = full.with_sketch("extra", HOURS).sample(1000, rng=11, design=design)
+    for name in ("hours", "cost"):
+        np.testing.assert_array_equal(base[name], removed[name])
+        np.testing.assert_array_equal(base[name], added[name])
+    alone = InputSet({"delay": DELAY}).sample(1000, rng=11, design=design)
+    np.testing.assert_array_equal(base["delay"], alone["delay"])
+
+
+def test_sobol_reorder_free():
+    a = make().sample(256, rng=3, design="sobol")
+    b = InputSet({"delay": DELAY, "hours": HOURS, "cost": COST}).sample(256, rng=3, design="sobol")
+    for name in a:
+        np.testing.assert_array_equal(a[name], b[name])
+
+
+@pytest.mark.parametrize(
+    ("design", "dependence"),
+    [
+        ("random", "iman-conover"),
+        ("lhs", "iman-conover"),
+        ("sobol", "gaussian-copula"),
+        ("random", "independent"),
+    ],
+)
+def test_blocks_bit_identical_to_one_call(design, dependence):
+    ins = make(rank_corr={("cost", "hours"): -0.4})
+    n = WINDOW + 1000 if design != "sobol" else 2 * WINDOW
+    whole = ins.sample(n, rng=5, design=design, dependence=dependence)
+    for block in (999, WINDOW, 3 * WINDOW):
+        parts = list(ins.blocks(n, block=block, rng=5, design=design, dependence=dependence))
+        assert all(isinstance(p, Draws) for p in parts)
+        assert [p.size for p in parts[:-1]] == [block] * (len(parts) - 1)
+        for name in ins.names:
+            np.testing.assert_array_equal(np.concatenate([p[name] for p in parts]), whole[name])
+
+
+@pytest.mark.parametrize("design", ["random", "lhs", "sobol"])
+@pytest.mark.parametrize("dependence", ["iman-conover", "gaussian-copula"])
+def test_uniforms_through_ppf_equal_sample_exactly(design, dependence):
+    ins = make(rank_corr={("cost", "hours"): 0.7, ("delay", "hours"): 0.2})
+    u = ins.uniforms(4096, rng=9, design=design, dependence=dependence)
+    x = ins.sample(4096, rng=9, design=design, dependence=dependence)
+    for name in ins.names:
+        assert u[name].min() > 0 and u[name].max() < 1
+        np.testing.assert_array_equal(x[name], ins.sketches[name].sampler().ppf(u[name]))
+
+
+def test_same_seed_same_draws_and_generator_advances():
+    ins = make()
+    a, b = ins.sample(50, rng=1), ins.sample(50, rng=1)
+    np.testing.assert_array_equal(a["cost"], b["cost"])
+    gen = np.random.default_rng(1)
+    c, d = ins.sample(50, rng=gen), ins.sample(50, rng=gen)
+    assert not np.array_equal(c["cost"], d["cost"])
+
+
+def test_size_zero_and_bad_sizes():
+    assert make().sample(0, rng=1).size == 0
+    for bad in (-1, 1.5, True, "10"):
+        with pytest.raises(InputError) as info:
+            make().sample(bad)
+        assert info.value.field == "size"
+    with pytest.raises(InputError):
+        list(make().blocks(10, block=0))
+    with pytest.raises(InputError) as info:
+        make().sample(10, design="halton")
+    assert info.value.field == "design"
+
+
+def test_sobol_warns_unless_power_of_two():
+    with pytest.warns(UserWarning, match="power of two"):
+        make().sample(1000, rng=1, design="sobol")
+    with warnings.catch_warnings():
+        warnings.simplefilter("error")
+        make().sample(1024, rng=1, design="sobol")
+
+
+def test_draws_mapping_and_pandas():
+    d = make().sample(10, rng=2)
+    with pytest.raises(TypeError):
+        d["hours"] = 1
+    frame = d.to_pandas()
+    assert list(frame.columns) == ["hours", "cost", "delay"]
+    np.testing.assert_array_equal(frame["cost"].to_numpy(), d["cost"])
+    assert d.to_numpy().shape == (10, 3)
+
+
+def test_pinned_draws():
+    # numpy's "desired" habit: a change in the streams is seen here
+    d = make(rank_corr={("cost", "hours"): 0.5}).sample(5, rng=2026)
+    got = {k: v.round(6).tolist() for k, v in d.items()}
+    assert got == PINNED, got
+
+
+PINNED = {
+    "hours": [1.904093, 8.802098, 5.036543, 2.509276, 2.603749],
+    "cost": [285.669479, 466.879912, 198.769805, 301.94361, 353.487221],
+    "delay": [4.997468, 0.974331, 2.73777, -1.026357, 6.229366],
+}
