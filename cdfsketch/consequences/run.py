@@ -1,11 +1,13 @@
 """The consequence run: candidates for one input through the user's model.
 
 One entry point, :func:`consequences`, in memory or — with ``chunks=`` — on
-Dask. Both cut the draws into the same stream blocks
-(:mod:`cdfsketch.scale.blocks`) and combine the same per-block statistics
-(:mod:`cdfsketch.consequences.stats`), so for the same ``rng``, ``size`` and
-``block`` the means, sds, exceedance probabilities and all their differences
-and standard errors are bit-identical in memory and on any Dask scheduler.
+Dask. Both draw the input set's windows of 2¹⁶ points (the stream blocks of
+:mod:`cdfsketch.scale.blocks`; the draws equal ``inputs.sample(size, rng=rng,
+...)``) and combine the same per-block statistics
+(:mod:`cdfsketch.consequences.stats`), so for the same ``rng`` and ``size``
+the means, sds, exceedance probabilities and all their differences and
+standard errors are bit-identical in memory and on any Dask scheduler, for
+any ``chunks``.
 Quantiles differ in method: in memory they are the exact sample quantiles; on
 Dask they come from a histogram of all draws (a second pass over the blocks)
 and are within one bin width of the exact sample quantile (the bound is
@@ -23,8 +25,10 @@ import numpy as np
 
 from .._progress import Progress
 from .._streams import root_seed
-from .._validate import choice, fail, integer, mapping, number, quote, text
-from ..scale.blocks import BlockLayout, block_uniforms
+from .._validate import choice, fail, integer, number, quote, text
+from ..inputs import DEPENDENCE, DESIGNS
+from ..scale.blocks import WINDOW, BlockLayout, as_inputset, window_uniforms
+from ..sketch import Sketch
 from .evaluate import ModelError, evaluate_block
 from .result import Consequences
 from .stats import (
@@ -37,7 +41,6 @@ from .stats import (
 
 __all__ = ["consequences"]
 
-DESIGNS = ("random", "lhs", "sobol")
 #: Points of the stored output CDF per candidate (in memory).
 CURVE_POINTS = 1025
 #: Dask tasks computed per round (progress is reported after each round).
@@ -45,12 +48,6 @@ ROUND = 32
 
 
 # ---------------------------------------------------------------- arguments
-
-
-def _sketches(inputs: Any) -> Mapping[str, Any]:
-    if hasattr(inputs, "sketches") and hasattr(inputs, "uniforms"):
-        return inputs.sketches
-    return mapping(inputs, field="inputs")
 
 
 def _labels(candidates: Sequence[Any], names: Any) -> list[str]:
@@ -170,10 +167,37 @@ class _Plan:
     def __init__(self, **kw: Any) -> None:
         self.__dict__.update(kw)
 
-    def outputs_of_block(self, k: int, step: Callable[[str], None] | None = None) -> dict:
+    # Sketch and InputSet are immutable values that refuse pickle's attribute
+    # setting, so they travel to worker processes as their spec / input-set
+    # JSON (exact: the numbers are written with repr, the draws are identical).
+    def __getstate__(self) -> dict[str, Any]:
+        state = dict(self.__dict__)
+        state["inputs"] = self.inputs.to_json()
+        state["candidates"] = [
+            ("spec", c.to_json()) if isinstance(c, Sketch) else ("object", c)
+            for c in self.candidates
+        ]
+        return state
+
+    def __setstate__(self, state: dict[str, Any]) -> None:
+        from ..inputs.file import load_inputset_text
+        from ..spec import load
+
+        state["inputs"] = load_inputset_text(state["inputs"])
+        state["candidates"] = [
+            load(obj) if kind == "spec" else obj for kind, obj in state["candidates"]
+        ]
+        self.__dict__.update(state)
+
+    def outputs_of_block(
+        self, k: int, u: Mapping[str, np.ndarray] | None = None, step: Any = None
+    ) -> dict:
         lo, hi = self.layout.bounds(k)
-        u = block_uniforms(self.inputs, self.root, k, hi - lo, design=self.design)
-        sketches = _sketches(self.inputs)
+        if u is None:
+            u = window_uniforms(
+                self.inputs, self.root, k, hi - lo, design=self.design, dependence=self.dependence
+            )
+        sketches = self.inputs.sketches
         base = {
             name: sketches[name].sampler().ppf(arr) for name, arr in u.items() if name != self.vary
         }
@@ -238,8 +262,16 @@ def _in_memory(plan: _Plan, progress: Any) -> tuple[dict, dict]:
 
     blocks: dict[str, list] = {}
     values: dict[str, list] = {}
-    for k in range(plan.layout.n_blocks):
-        table = plan.outputs_of_block(k, step)
+    windows = plan.inputs.blocks(
+        plan.layout.size,
+        block=plan.layout.block,
+        rng=plan.root,
+        design=plan.design,
+        dependence=plan.dependence,
+        uniforms=True,
+    )
+    for k, u in enumerate(windows):
+        table = plan.outputs_of_block(k, u, step)
         for o, st in plan.stats_of(table).items():
             blocks.setdefault(o, []).append(st)
             values.setdefault(o, []).append(table[o])
@@ -334,11 +366,11 @@ def consequences(
     design: str = "random",
     thresholds: Any = None,
     tolerance: Any = None,
+    dependence: str = "iman-conover",
     quantiles: Sequence[float] = (0.1, 0.5, 0.9),
     reference: Any = None,
     names: Sequence[str] | None = None,
     confidence: float = 0.95,
-    block: int | None = None,
     chunks: int | None = None,
     scheduler: Any = None,
     bins: int = 4096,
@@ -371,13 +403,15 @@ def consequences(
     rng : optional
         Anything :func:`numpy.random.default_rng` takes; the root of the streams.
     design : {"random", "lhs", "sobol"}
-        The sampling design (with an InputSet), applied within each block.
+        The sampling design (as ``InputSet.sample``).
     thresholds : float, list of float or mapping, optional
         Report ``P(output > t)`` for these thresholds (a mapping gives them per output).
     tolerance : float or mapping, optional
         The difference (in the output's units) that would matter, for the
         verdicts on the mean and the quantiles; a mapping gives it per output.
         ``None`` means 0: any difference the draws can detect counts.
+    dependence : {"iman-conover", "gaussian-copula", "independent"}
+        How the input set's rank-correlation target is imposed.
     quantiles : sequence of float
         Quantile levels to report.
     reference : str or int, optional
@@ -386,11 +420,10 @@ def consequences(
         Labels for the candidates (default: their ``name``, else "candidate i").
     confidence : float
         Confidence level of the verdicts (two-sided normal interval).
-    block : int, optional
-        Draws per stream block (default: ``size`` in memory, ``chunks`` on
-        Dask). The draws depend on ``rng``, ``size``, ``block`` and ``design``.
     chunks : int, optional
-        Run on Dask, with tasks of ``chunks`` draws (a multiple of ``block``).
+        Run on Dask, with tasks of ``chunks`` draws (a multiple of 2¹⁶ =
+        65536, the input set's window; or at least ``size``). The results do
+        not depend on it.
     scheduler : optional
         Passed to :func:`dask.compute` (default: the active Dask scheduler or client).
     bins : int
@@ -432,7 +465,8 @@ def consequences(
             field="model",
             value=model,
         )
-    sketches = _sketches(inputs)
+    ins = as_inputset(inputs)
+    sketches = ins.sketches
     vary = text(vary, field="vary", empty=False)
     if vary not in sketches:
         raise fail(
@@ -446,6 +480,7 @@ def consequences(
     labels = _labels(cands, names)
     n = integer(size, field="size", low=20, example="size=100_000")
     design = choice(design, field="design", options=DESIGNS)
+    dependence = choice(dependence, field="dependence", options=DEPENDENCE)
     qs = _quantiles(quantiles)
     level = number(confidence, field="confidence", low=0, high=1, low_open=True, high_open=True)
     ref = labels[0] if reference is None else None
@@ -477,30 +512,32 @@ def consequences(
             number(v, field="tolerance", low=0)
     elif tolerance is not None:
         number(tolerance, field="tolerance", low=0)
+    layout = BlockLayout(n, WINDOW)
     if chunks is not None:
-        chunks = integer(chunks, field="chunks", low=1, example="chunks=1_000_000")
-    b = integer(block, field="block", low=1, example="block=65_536") if block is not None else None
-    b = b or (chunks if chunks is not None else n)
-    if chunks is not None and chunks % b:
-        raise fail(
-            "chunks must be a multiple of block (each task runs whole stream blocks)",
-            f"chunks={chunks}, block={b}",
-            f"Pass e.g. chunks={b * max(1, chunks // b)}.",
-            field="chunks",
-            value=chunks,
-        )
+        chunks = integer(chunks, field="chunks", low=1, example=f"chunks={4 * WINDOW}")
+        if chunks % WINDOW and chunks < n:
+            raise fail(
+                f"chunks must be a multiple of {WINDOW} (the input set's window: each task "
+                "runs whole windows) or at least size",
+                f"chunks={chunks}",
+                f"Pass e.g. chunks={WINDOW * max(1, chunks // WINDOW)}.",
+                field="chunks",
+                value=chunks,
+            )
+        chunks = max(WINDOW, chunks - chunks % WINDOW)
     bins = integer(bins, field="bins", low=16, high=10**7, example="bins=4096")
-    layout = BlockLayout(n, b)
     root = root_seed(rng)
+    ins.blocks(n, block=n, rng=root, design=design, dependence=dependence)  # checks, warns
     plan = _Plan(
         model=model,
-        inputs=inputs,
+        inputs=ins,
         vary=vary,
         candidates=cands,
         labels=labels,
         layout=layout,
         root=root,
         design=design,
+        dependence=dependence,
         thresholds=thresholds,
         quantiles=qs,
         sections=sections_per_block(layout.n_blocks),
@@ -515,7 +552,8 @@ def consequences(
     tol = _per_output(tolerance, outputs, "tolerance", lambda v: 0.0 if v is None else float(v))
     method.update(
         {
-            "block": b,
+            "dependence": dependence,
+            "block": WINDOW,
             "n_blocks": layout.n_blocks,
             "confidence": level,
             "z": plan.z,

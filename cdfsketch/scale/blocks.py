@@ -1,14 +1,17 @@
-"""The block layout: which random stream each draw comes from (numpy only).
+"""The block layout: the input set's windows, each made on its own (numpy; scipy for designs).
 
-A run of ``size`` draws is cut into *stream blocks* of ``block`` draws (the
-last one may be shorter). Block ``k`` holds draws ``k*block`` to
-``min((k+1)*block, size) - 1`` and takes its randomness from the
-:class:`~numpy.random.SeedSequence` child ``(root, "block", k)``; an input set
-derives one child per input name from it. So the draws depend on ``rng``,
-``size``, ``block`` and the design only — never on how the blocks are grouped
-into Dask chunks, on the scheduler, on the number of workers or on the order
-the blocks run in. "The same block layout" means the same ``size`` and
-``block``.
+An :class:`~cdfsketch.InputSet` cuts the points of one call into windows of
+:data:`~cdfsketch.inputs.designs.WINDOW` (2¹⁶) points; window ``k`` of input
+``name`` comes from the stream ``(root, "input", name, "window", k)`` (a
+Sobol window is the slice ``[k W, k W + m)`` of one scrambled sequence) and
+the rank dependence is imposed per window. Any window can therefore be made
+on its own, which is what a Dask task does: the *stream blocks* here are
+those windows. So the draws depend on ``rng``, ``size``, the design and the
+dependence only — never on how the windows are grouped into Dask chunks, on
+the scheduler, on the number of workers or on the order the blocks run in —
+and they equal ``inputs.sample(size, rng=rng, ...)`` exactly. "The same
+block layout" means the same ``size`` (the last window's length is what
+``size`` leaves).
 
 Examples
 --------
@@ -27,17 +30,20 @@ from typing import Any
 
 import numpy as np
 
-from .._streams import generator, seed_sequence
+from .._validate import fail
+from ..inputs import InputSet
+from ..inputs.dependence import gaussian_copula, iman_conover
+from ..inputs.designs import WINDOW, clip_open, design_uniforms
 
-__all__ = ["BlockLayout", "block_inputs", "block_sketch", "block_uniforms"]
+__all__ = ["WINDOW", "BlockLayout", "as_inputset", "window_uniforms"]
 
 
 @dataclass(frozen=True)
 class BlockLayout:
-    """``size`` draws cut into stream blocks of ``block`` draws."""
+    """``size`` draws cut into stream blocks of ``block`` draws (the input set's windows)."""
 
     size: int
-    block: int
+    block: int = WINDOW
 
     @property
     def n_blocks(self) -> int:
@@ -55,41 +61,60 @@ class BlockLayout:
         return range(lo // self.block, (hi - 1) // self.block + 1)
 
 
-def block_sketch(sketch: Any, root: np.random.SeedSequence, k: int, n: int) -> np.ndarray:
-    """The ``n`` draws of stream block ``k`` of one sketch (stream ``(root, "block", k)``).
+def as_inputset(inputs: Any, field: str = "inputs") -> InputSet:
+    """An :class:`InputSet` as it is; a mapping name → sketch as independent inputs.
 
-    Equal to ``sketch.sample(n, rng=generator(root, "block", k))``.
+    Examples
+    --------
+    >>> from cdfsketch import Sketch
+    >>> as_inputset({"a": Sketch([0, 1], [0, 1])}).names
+    ('a',)
     """
-    return np.asarray(sketch.sampler().sample(n, rng=generator(root, "block", k)), dtype=float)
+    if isinstance(inputs, InputSet):
+        return inputs
+    if isinstance(inputs, Mapping):
+        return InputSet(inputs)
+    raise fail(
+        f"{field} must be a cdfsketch.InputSet (or a mapping name → Sketch)",
+        type(inputs).__name__,
+        "Pass e.g. InputSet({'hours': hours, 'cost': cost}).",
+        field=field,
+        value=inputs,
+    )
 
 
-def block_uniforms(
-    inputs: Any, root: np.random.SeedSequence, k: int, n: int, *, design: str = "random"
+def window_uniforms(
+    inputs: InputSet,
+    root: np.random.SeedSequence,
+    k: int,
+    m: int,
+    *,
+    design: str = "random",
+    dependence: str = "iman-conover",
 ) -> dict[str, np.ndarray]:
-    """Uniforms of stream block ``k`` for every input of ``inputs`` (name → array).
+    """Uniforms of window ``k`` (``m`` points) for every input, dependence applied.
 
-    ``inputs`` is an input set (its ``uniforms`` applies the design and the
-    dependence within the block, one stream per input name below the block's
-    stream) or a mapping name → sketch (independent inputs, plain random
-    draws, stream ``(root, "block", k, "input", name)``).
+    Equal to the window's slice of ``inputs.uniforms(size, rng=root, design=design,
+    dependence=dependence)`` for any ``size`` that leaves ``m`` points in
+    window ``k`` (the tests check it).
+
+    Examples
+    --------
+    >>> from cdfsketch import Sketch
+    >>> from cdfsketch._streams import root_seed
+    >>> ins = InputSet({"a": Sketch([0, 1], [0, 1])})
+    >>> u = window_uniforms(ins, root_seed(3), 0, 5)["a"]
+    >>> bool(np.array_equal(u, ins.uniforms(5, rng=3)["a"]))
+    True
     """
-    seq = seed_sequence(root, "block", k)
-    if hasattr(inputs, "uniforms"):
-        return {
-            name: np.asarray(u, dtype=float)
-            for name, u in inputs.uniforms(n, rng=seq, design=design).items()
-        }
-    if design != "random":  # a plain mapping has no designs; InputSet has
-        raise ValueError(
-            f"design={design!r} needs an InputSet; a mapping of sketches draws at random."
-        )
-    return {name: generator(seq, "input", name).random(n) for name in inputs}
-
-
-def block_inputs(
-    inputs: Any, root: np.random.SeedSequence, k: int, n: int, *, design: str = "random"
-) -> dict[str, np.ndarray]:
-    """Draws of stream block ``k`` for every input (each sketch's ppf of its uniforms)."""
-    sketches: Mapping[str, Any] = inputs.sketches if hasattr(inputs, "sketches") else inputs
-    u = block_uniforms(inputs, root, k, n, design=design)
-    return {name: np.asarray(sketches[name].sampler().ppf(u[name]), dtype=float) for name in u}
+    u = design_uniforms(design, inputs.names, root, k, m)
+    group, target = inputs.target_matrix()
+    if group and dependence != "independent":
+        table = np.column_stack([u[g] for g in group])
+        if dependence == "iman-conover":
+            table = iman_conover(table, target)
+        else:
+            table = clip_open(gaussian_copula(table, target))
+        for j, g in enumerate(group):
+            u[g] = np.ascontiguousarray(table[:, j])
+    return u
