@@ -32,6 +32,7 @@ from ..sketch import Sketch
 from .evaluate import ModelError, evaluate_block
 from .result import Consequences
 from .stats import (
+    bad_draws,
     block_stats,
     combine,
     histogram_quantile,
@@ -230,20 +231,22 @@ class _Plan:
         return counts
 
 
-def _check_bad(plan: _Plan, combined: Mapping[str, dict]) -> None:
-    for o, s in combined.items():
-        for c, bad in enumerate(s["bad"]):
-            if bad:
+def _check_bad(plan: _Plan, blocks: Mapping[str, Sequence[dict]]) -> None:
+    """Raise, naming the candidate and the count, if any output draw is NaN or infinite."""
+    for o, bl in blocks.items():
+        bad, first = bad_draws(bl)
+        for c, count in enumerate(bad):
+            if count:
                 raise fail(
                     f"The model must return finite numbers for candidate {plan.labels[c]!r}",
-                    f"{int(bad)} of {s['n']} draws NaN or infinite in output {o!r} "
-                    f"(first at draw {int(s['first_bad'][c])})",
+                    f"{int(count)} of {plan.layout.size} draws NaN or infinite in output {o!r} "
+                    f"(first at draw {int(first[c])})",
                     "Guard the model against those inputs (the draws are reproducible with the "
                     "same rng); no result was made.",
                     error=ModelError,
                     field="model",
-                    index=int(s["first_bad"][c]),
-                    value=int(bad),
+                    index=int(first[c]),
+                    value=int(count),
                 )
 
 
@@ -275,8 +278,8 @@ def _in_memory(plan: _Plan, progress: Any) -> tuple[dict, dict]:
         for o, st in plan.stats_of(table).items():
             blocks.setdefault(o, []).append(st)
             values.setdefault(o, []).append(table[o])
+    _check_bad(plan, blocks)
     combined = {o: combine(b) for o, b in blocks.items()}
-    _check_bad(plan, combined)
     grid = np.linspace(0.0, 1.0, CURVE_POINTS)
     for o, s in combined.items():
         ys = np.sort(np.concatenate(values.pop(o), axis=1), axis=1)
@@ -313,8 +316,9 @@ def _on_dask(
         report(i + 1, "statistics")
     first.sort(key=lambda kv: kv[0])
     outputs = list(first[0][1])
-    combined = {o: combine([st[o] for _, st in first]) for o in outputs}
-    _check_bad(plan, combined)
+    per_output = {o: [st[o] for _, st in first] for o in outputs}
+    _check_bad(plan, per_output)
+    combined = {o: combine(bl) for o, bl in per_output.items()}
     method = {"engine": "dask", "chunks": int(chunks)}
     if not plan.quantiles:
         for s in combined.values():

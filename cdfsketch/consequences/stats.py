@@ -19,7 +19,7 @@ from typing import Any
 
 import numpy as np
 
-__all__ = ["block_stats", "combine", "histogram_quantile", "sorted_quantile"]
+__all__ = ["bad_draws", "block_stats", "combine", "histogram_quantile", "sorted_quantile"]
 
 #: Sections a run is cut into, at least, for the standard error of quantile differences.
 SECTIONS = 20
@@ -129,18 +129,10 @@ def combine(blocks: Sequence[dict[str, Any]]) -> dict[str, Any]:
     exceed = np.sum([b["exceed"] for b in blocks], axis=0, dtype=np.int64)
     pair_exceed = np.sum([b["pair_exceed"] for b in blocks], axis=0, dtype=np.int64)
     pair_disagree = np.sum([b["pair_disagree"] for b in blocks], axis=0, dtype=np.int64)
-    starts = np.concatenate([[0], np.cumsum(ns)[:-1]])
-    bad = np.sum([b["bad"] for b in blocks], axis=0, dtype=np.int64)
-    first_bad = np.full(bad.shape, -1, dtype=np.int64)
-    for s, b in zip(starts, blocks, strict=True):
-        hit = (first_bad < 0) & (b["first_bad"] >= 0)
-        first_bad[hit] = s + b["first_bad"][hit]
     e_mean = pair_exceed / big_n
     e_var = (pair_disagree - big_n * e_mean**2) / max(big_n - 1, 1)
     return {
         "n": big_n,
-        "bad": bad,
-        "first_bad": first_bad,
         "mean": mean,
         "var": np.maximum(var, 0.0),
         "min": np.min([b["min"] for b in blocks], axis=0),
@@ -152,6 +144,26 @@ def combine(blocks: Sequence[dict[str, Any]]) -> dict[str, Any]:
         "pair_exceed_var": np.maximum(e_var, 0.0),
         "sec_q": np.concatenate([b["sec_q"] for b in blocks], axis=0),
     }
+
+
+def bad_draws(blocks: Sequence[dict[str, Any]]) -> tuple[np.ndarray, np.ndarray]:
+    """Per candidate: how many draws were NaN or infinite, and the first one's index (or -1).
+
+    Examples
+    --------
+    >>> y = np.array([[1.0, np.nan, 2.0, np.inf]])
+    >>> [a.tolist() for a in bad_draws([block_stats(y[:, :2], [], [], 1),
+    ...                                 block_stats(y[:, 2:], [], [], 1)])]
+    [[2], [1]]
+    """
+    bad = np.sum([b["bad"] for b in blocks], axis=0, dtype=np.int64)
+    first = np.full(bad.shape, -1, dtype=np.int64)
+    start = 0
+    for b in blocks:
+        hit = (first < 0) & (b["first_bad"] >= 0)
+        first[hit] = start + b["first_bad"][hit]
+        start += b["n"]
+    return bad, first
 
 
 def order_ranks(n: int, p: float, z: float) -> tuple[int, int, int]:
