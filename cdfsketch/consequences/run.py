@@ -27,8 +27,14 @@ from .._progress import Progress
 from .._streams import root_seed
 from .._validate import choice, fail, integer, number, quote, text
 from ..inputs import DEPENDENCE, DESIGNS
-from ..scale.blocks import WINDOW, BlockLayout, as_inputset, window_uniforms
-from ..sketch import Sketch
+from ..scale.blocks import (
+    WINDOW,
+    BlockLayout,
+    as_inputset,
+    from_portable,
+    to_portable,
+    window_uniforms,
+)
 from .evaluate import ModelError, evaluate_block
 from .result import Consequences
 from .stats import (
@@ -168,26 +174,16 @@ class _Plan:
     def __init__(self, **kw: Any) -> None:
         self.__dict__.update(kw)
 
-    # Sketch and InputSet are immutable values that refuse pickle's attribute
-    # setting, so they travel to worker processes as their spec / input-set
-    # JSON (exact: the numbers are written with repr, the draws are identical).
+    # Sketch and InputSet travel to worker processes as their JSON (to_portable).
     def __getstate__(self) -> dict[str, Any]:
         state = dict(self.__dict__)
-        state["inputs"] = self.inputs.to_json()
-        state["candidates"] = [
-            ("spec", c.to_json()) if isinstance(c, Sketch) else ("object", c)
-            for c in self.candidates
-        ]
+        state["inputs"] = to_portable(self.inputs)
+        state["candidates"] = [to_portable(c) for c in self.candidates]
         return state
 
     def __setstate__(self, state: dict[str, Any]) -> None:
-        from ..inputs.file import load_inputset_text
-        from ..spec import load
-
-        state["inputs"] = load_inputset_text(state["inputs"])
-        state["candidates"] = [
-            load(obj) if kind == "spec" else obj for kind, obj in state["candidates"]
-        ]
+        state["inputs"] = from_portable(state["inputs"])
+        state["candidates"] = [from_portable(c) for c in state["candidates"]]
         self.__dict__.update(state)
 
     def outputs_of_block(

@@ -35,7 +35,14 @@ from ..inputs import InputSet
 from ..inputs.dependence import gaussian_copula, iman_conover
 from ..inputs.designs import WINDOW, clip_open, design_uniforms
 
-__all__ = ["WINDOW", "BlockLayout", "as_inputset", "window_uniforms"]
+__all__ = [
+    "WINDOW",
+    "BlockLayout",
+    "as_inputset",
+    "from_portable",
+    "to_portable",
+    "window_uniforms",
+]
 
 
 @dataclass(frozen=True)
@@ -118,3 +125,40 @@ def window_uniforms(
         for j, g in enumerate(group):
             u[g] = np.ascontiguousarray(table[:, j])
     return u
+
+
+def to_portable(obj: Any) -> tuple[str, Any]:
+    """``obj`` in a form pickle can carry to a worker process.
+
+    Sketch and InputSet are immutable values that refuse pickle's attribute
+    setting, so they travel as their spec / input-set JSON (exact: numbers
+    are written with ``repr``, so the draws are the same bit for bit).
+
+    Examples
+    --------
+    >>> from cdfsketch import Sketch
+    >>> s = Sketch([0, 2, 5], [0, 0.5, 1])
+    >>> from_portable(to_portable(s)).ppf(0.3) == s.ppf(0.3)
+    True
+    """
+    from ..sketch import Sketch
+
+    if isinstance(obj, Sketch):
+        return ("sketch", obj.to_json())
+    if isinstance(obj, InputSet):
+        return ("inputset", obj.to_json())
+    return ("object", obj)
+
+
+def from_portable(item: tuple[str, Any]) -> Any:
+    """The value :func:`to_portable` packed."""
+    kind, obj = item
+    if kind == "sketch":
+        from ..spec import load
+
+        return load(obj)
+    if kind == "inputset":
+        from ..inputs.file import load_inputset_text
+
+        return load_inputset_text(obj)
+    return obj

@@ -17,7 +17,7 @@ from .._extras import need
 from .._streams import root_seed
 from .._validate import choice, fail, integer, text
 from ..inputs import DEPENDENCE, DESIGNS
-from .blocks import BlockLayout, as_inputset, window_uniforms
+from .blocks import BlockLayout, as_inputset, from_portable, to_portable, window_uniforms
 
 __all__ = ["check_chunks", "inputset_to_dask", "sketch_to_dask"]
 
@@ -101,24 +101,41 @@ def inputset_to_dask(
     n, sizes = check_chunks(size, chunks)
     design = choice(design, field="design", options=DESIGNS)
     dependence = choice(dependence, field="dependence", options=DEPENDENCE)
-    layout = BlockLayout(n)
-    root = root_seed(rng)
+    fill = _Fill(ins, root_seed(rng), n, design, dependence)
     names = ins.names
+    table = da.map_blocks(fill, chunks=(sizes, (len(names),)), dtype=float, meta=np.empty((0, 0)))
+    return {name: table[:, j] for j, name in enumerate(names)}
 
-    def fill(block_info: Any = None) -> np.ndarray:
+
+class _Fill:
+    """Fills one Dask chunk from the windows it overlaps (picklable for worker processes)."""
+
+    def __init__(
+        self, inputs: Any, root: np.random.SeedSequence, n: int, design: str, dependence: str
+    ) -> None:
+        self.inputs, self.root, self.layout = inputs, root, BlockLayout(n)
+        self.design, self.dependence = design, dependence
+
+    def __getstate__(self) -> dict[str, Any]:
+        return {**self.__dict__, "inputs": to_portable(self.inputs)}
+
+    def __setstate__(self, state: dict[str, Any]) -> None:
+        self.__dict__.update({**state, "inputs": from_portable(state["inputs"])})
+
+    def __call__(self, block_info: Any = None) -> np.ndarray:
         lo, hi = block_info[None]["array-location"][0]
-        out = np.empty((hi - lo, len(names)))
+        ins, layout = self.inputs, self.layout
+        out = np.empty((hi - lo, len(ins.names)))
         for k in layout.blocks_between(lo, hi):
             b_lo, b_hi = layout.bounds(k)
-            u = window_uniforms(ins, root, k, b_hi - b_lo, design=design, dependence=dependence)
+            u = window_uniforms(
+                ins, self.root, k, b_hi - b_lo, design=self.design, dependence=self.dependence
+            )
             a, b = max(lo, b_lo), min(hi, b_hi)
-            for j, name in enumerate(names):
+            for j, name in enumerate(ins.names):
                 part = u[name][a - b_lo : b - b_lo]
                 out[a - lo : b - lo, j] = ins.sketches[name].sampler().ppf(part)
         return out
-
-    table = da.map_blocks(fill, chunks=(sizes, (len(names),)), dtype=float, meta=np.empty((0, 0)))
-    return {name: table[:, j] for j, name in enumerate(names)}
 
 
 def sketch_to_dask(sketch: Any, size: int, *, chunks: Any, rng: Any = None, name: str = "x") -> Any:
