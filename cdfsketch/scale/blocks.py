@@ -24,6 +24,7 @@ range(0, 3)
 
 from __future__ import annotations
 
+import functools
 from collections.abc import Mapping
 from dataclasses import dataclass
 from typing import Any
@@ -151,14 +152,18 @@ def to_portable(obj: Any) -> tuple[str, Any]:
 
 
 def from_portable(item: tuple[str, Any]) -> Any:
-    """The value :func:`to_portable` packed."""
+    """The value :func:`to_portable` packed (a worker keeps the last few it read)."""
     kind, obj = item
+    return _read_portable(kind, obj) if kind in ("sketch", "inputset") else obj
+
+
+@functools.lru_cache(maxsize=32)
+def _read_portable(kind: str, text: str) -> Any:
+    # Values are immutable, so tasks on one worker share them and their compiled samplers.
     if kind == "sketch":
         from ..spec import load
 
-        return load(obj)
-    if kind == "inputset":
-        from ..inputs.file import load_inputset_text
+        return load(text)
+    from ..inputs.file import load_inputset_text
 
-        return load_inputset_text(obj)
-    return obj
+    return load_inputset_text(text)

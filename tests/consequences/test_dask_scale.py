@@ -151,7 +151,7 @@ def test_distributed_cluster_gives_the_same_bits(client):
 def test_bad_draws_are_counted_over_all_blocks_on_dask():
     u = INS.uniforms(SIZE, rng=2026)["hours"]
     bad = int(np.sum(HOURS.sampler().ppf(u) > 12))  # the first candidate's bad draws
-    assert bad > 0 and bad > int(np.sum(u[:WINDOW] > 0)) * 0  # spread over several blocks
+    assert bad > 0
     assert int(np.sum(HOURS.sampler().ppf(u[:WINDOW]) > 12)) < bad
     kw = {**KW, "thresholds": None, "tolerance": None}
     with pytest.raises(ModelError, match=f"{bad} of {SIZE} draws NaN or infinite") as info:
