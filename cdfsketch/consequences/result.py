@@ -64,6 +64,8 @@ class Consequences:
     tolerance : mapping
         Output → the tolerance the verdicts use (0 when none was set: then any
         difference the draws can detect counts).
+    judge : tuple of str
+        The statistics the verdicts weigh (``"mean"``, ``"q0.9"``, …).
     reference : str
         The default reference candidate.
     method : mapping
@@ -75,6 +77,7 @@ class Consequences:
         "_stats",
         "candidates",
         "design",
+        "judge",
         "method",
         "outputs",
         "quantiles",
@@ -96,6 +99,7 @@ class Consequences:
         quantiles: Sequence[float],
         thresholds: Mapping[str, Sequence[float]],
         tolerance: Mapping[str, float],
+        judge: Sequence[str],
         reference: str,
         method: Mapping[str, Any],
         stats: Mapping[str, Mapping[str, Any]],
@@ -109,6 +113,7 @@ class Consequences:
             "quantiles": tuple(float(q) for q in quantiles),
             "thresholds": freeze({o: [float(t) for t in ts] for o, ts in thresholds.items()}),
             "tolerance": freeze({o: float(t) for o, t in tolerance.items()}),
+            "judge": tuple(judge),
             "reference": reference,
             "method": freeze(dict(method)),
             "_stats": freeze({o: dict(s) for o, s in stats.items()}),
@@ -178,7 +183,9 @@ class Consequences:
                 _plain((var[c] + var[r]) / pvar[r][c]) if c != r and pvar[r][c] > 0 else None
             ),
         }
-        judged = [(row["diff_mean"], row["diff_mean_se"])]
+        judged = []
+        if "mean" in self.judge:
+            judged.append((row["diff_mean"], row["diff_mean_se"]))
         sec = np.asarray(s["sec_q"])
         for k, p in enumerate(self.quantiles):
             lab = qlabel(p)
@@ -190,7 +197,8 @@ class Consequences:
                 float(np.std(d_sec, ddof=1) / math.sqrt(d_sec.size)) if d_sec.size > 1 else math.nan
             )
             row[f"diff_{lab}_se"] = _plain(se)
-            judged.append((row[f"diff_{lab}"], row[f"diff_{lab}_se"]))
+            if lab in self.judge:
+                judged.append((row[f"diff_{lab}"], row[f"diff_{lab}_se"]))
         row["quantile_error_bound"] = _plain(s["q_bound"])
         for k, t in enumerate(self.thresholds[o]):
             lab = tlabel(t)

@@ -36,7 +36,7 @@ from ..scale.blocks import (
     window_uniforms,
 )
 from .evaluate import ModelError, evaluate_block
-from .result import Consequences
+from .result import Consequences, qlabel
 from .stats import (
     bad_draws,
     block_stats,
@@ -163,6 +163,21 @@ def _quantiles(value: Any) -> tuple[float, ...]:
                 value=q,
             )
     return tuple(qs)
+
+
+def _judge(value: Any, quantiles: Sequence[float]) -> tuple[str, ...]:
+    options = ("mean", *(qlabel(p) for p in quantiles))
+    if value is None:
+        return options
+    if isinstance(value, str) or not isinstance(value, Sequence) or not value:
+        raise fail(
+            f"judge must be a non-empty list of statistics from {list(options)}",
+            quote(value),
+            "Pass e.g. judge=['q0.9'] (quantiles must also be listed in quantiles=).",
+            field="judge",
+            value=value,
+        )
+    return tuple(choice(v, field="judge", options=options) for v in value)
 
 
 # ---------------------------------------------------------------- one block
@@ -368,6 +383,7 @@ def consequences(
     tolerance: Any = None,
     dependence: str = "iman-conover",
     quantiles: Sequence[float] = (0.1, 0.5, 0.9),
+    judge: Sequence[str] | None = None,
     reference: Any = None,
     names: Sequence[str] | None = None,
     confidence: float = 0.95,
@@ -414,6 +430,11 @@ def consequences(
         How the input set's rank-correlation target is imposed.
     quantiles : sequence of float
         Quantile levels to report.
+    judge : list of str, optional
+        The statistics the verdicts weigh: ``"mean"`` and quantile labels such
+        as ``"q0.9"`` (default: the mean and every reported quantile). A
+        verdict says "changes" when any of them differs by more than the
+        tolerance, "within" when all are clearly within it.
     reference : str or int, optional
         The candidate the differences are taken from (default: the first).
     names : list of str, optional
@@ -482,6 +503,7 @@ def consequences(
     design = choice(design, field="design", options=DESIGNS)
     dependence = choice(dependence, field="dependence", options=DEPENDENCE)
     qs = _quantiles(quantiles)
+    judged = _judge(judge, qs)
     level = number(confidence, field="confidence", low=0, high=1, low_open=True, high_open=True)
     ref = labels[0] if reference is None else None
     if reference is not None:
@@ -572,6 +594,7 @@ def consequences(
         quantiles=qs,
         thresholds=thr,
         tolerance=tol,
+        judge=judged,
         reference=ref,
         method=method,
         stats=combined,

@@ -141,6 +141,18 @@ def test_cannot_tell_names_a_sample_size_larger_than_the_run():
     )
 
 
+def test_judge_picks_the_statistics_the_verdict_weighs():
+    # the P90 moves much more than the median here; a tolerance between them
+    res = run(size=50_000, quantiles=(0.5, 0.9))
+    row = res.table()[1]
+    tol = (abs(row["diff_q0.5"]) + abs(row["diff_q0.9"])) / 2
+    on_median = run(size=50_000, quantiles=(0.5, 0.9), tolerance=tol, judge=["q0.5"])
+    on_p90 = run(size=50_000, quantiles=(0.5, 0.9), tolerance=tol, judge=["q0.9"])
+    assert on_median.table()[1]["verdict_code"] == "within"
+    assert on_p90.table()[1]["verdict_code"] == "changes"
+    assert on_p90.judge == ("q0.9",)
+
+
 @pytest.mark.parametrize(
     ("d", "se", "tol", "code"),
     [
@@ -237,6 +249,8 @@ def test_model_cannot_change_the_shared_draws():
         ({"thresholds": "high"}, "thresholds"),
         ({"thresholds": {"profit": [1.0]}}, "thresholds"),
         ({"reference": "gamma"}, "reference"),
+        ({"judge": ["q0.99"]}, "judge"),
+        ({"judge": "mean"}, "judge"),
         ({"names": ["x"]}, "names"),
         ({"confidence": 1.0}, "confidence"),
         ({"chunks": 1000, "size": 200_000}, "chunks"),
