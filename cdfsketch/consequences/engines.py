@@ -66,9 +66,11 @@ class Plan:
         )
 
     def stats_of(self, table: dict) -> dict:
+        # the output names are known now: settings naming other outputs fail on the first block
         thr = per_output(
             self.thresholds, list(table), "thresholds", lambda v: read_numbers(v, "thresholds")
         )
+        per_output(self.tolerance, list(table), "tolerance", lambda v: v)
         return {
             o: block_stats(ys, thr[o], self.quantiles, self.sections) for o, ys in table.items()
         }
@@ -176,8 +178,7 @@ def on_dask(plan: Plan, chunks: Any, scheduler: Any, bins: int, progress: Any) -
         for s in combined.values():
             s["q"] = s["q_se"] = np.zeros((len(plan.candidates), 0))
             s["q_bound"] = 0.0
-            s["curve_x"] = np.stack([s["min"], s["max"]], axis=1)
-            s["curve_p"] = np.tile([0.0, 1.0], (len(plan.candidates), 1))
+            s["curve_x"] = s["curve_p"] = np.zeros((len(plan.candidates), 0))
         method["quantile_method"] = "none requested"
         return combined, method
     edges = {}

@@ -277,6 +277,13 @@ class Consequences:
         k = integer(points, field="points", low=2, high=100_000, example="points=201")
         o = self._output(output)
         s = self._stats[o]
+        if np.asarray(s["curve_x"]).shape[1] == 0:
+            raise fail(
+                "output_curves needs the output's distribution",
+                "a run on Dask with quantiles=() (no histogram was made)",
+                "Run again with quantiles, e.g. quantiles=(0.5, 0.9).",
+                field="quantiles",
+            )
         grid = np.linspace(0.0, 1.0, k)
         out = {}
         for c, label in enumerate(self.candidates):

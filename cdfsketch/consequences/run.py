@@ -131,6 +131,12 @@ def consequences(
         their standard errors, the gain of common random numbers, and a
         verdict per output. ``to_pandas()`` gives the table.
 
+    Notes
+    -----
+    The model must be deterministic given its inputs: on Dask each block is
+    evaluated twice when quantiles are asked for (statistics, then a
+    histogram between the smallest and largest output).
+
     Raises
     ------
     ModelError
@@ -232,6 +238,7 @@ def consequences(
         design=design,
         dependence=dependence,
         thresholds=thresholds,
+        tolerance=tolerance,
         quantiles=qs,
         sections=sections_per_block(layout.n_blocks),
         z=statistics.NormalDist().inv_cdf(0.5 + level / 2),
