@@ -296,43 +296,44 @@ def _scipy_special() -> Any:
 
 
 def iman_conover(u: np.ndarray, target: np.ndarray) -> np.ndarray:
-    """Reorder each column of ``u`` (m, k) so their ranks carry the Spearman ``target``.
+    """Reorder each row of ``u`` (k inputs × m points): normal scores correlated as ``target``.
 
     Iman & Conover (1982): van der Waerden scores ``Φ⁻¹(i/(m+1))`` placed in
-    the rank order of each column, decorrelated by their own sample
-    correlation's Cholesky factor and mixed by the target's; each column of
-    ``u`` is then rearranged to follow the ranks of the result. A column's
-    values are kept exactly (only their order changes). Blocks with fewer
-    than ``k + 2`` rows are returned unchanged (their scores cannot be
-    decorrelated).
+    the rank order of each row, decorrelated by their own sample
+    correlation's Cholesky factor and mixed by ``target``'s (a Pearson matrix
+    of the scores: pass :func:`copula_correlation` of a Spearman target to
+    meet the Spearman values); each row of ``u`` is then rearranged to follow
+    the ranks of the result. A row's values are kept exactly (only their
+    order changes). Blocks with fewer than ``k + 2`` points are returned
+    unchanged (their scores cannot be decorrelated).
 
     Examples
     --------
-    >>> u = np.random.default_rng(1).random((5000, 2))
-    >>> out = iman_conover(u, np.array([[1, 0.7], [0.7, 1]]))
-    >>> bool(np.array_equal(np.sort(out, axis=0), np.sort(u, axis=0)))
+    >>> u = np.random.default_rng(1).random((2, 5000))
+    >>> out = iman_conover(u, copula_correlation(np.array([[1, 0.7], [0.7, 1]])))
+    >>> bool(np.array_equal(np.sort(out, axis=1), np.sort(u, axis=1)))
     True
-    >>> round(float(spearman([out[:, 0], out[:, 1]])[0, 1]), 2)
+    >>> round(float(spearman([out[0], out[1]])[0, 1]), 2)
     0.7
     """
-    m, k = u.shape
+    k, m = u.shape
     if m < k + 2 or k < 2:
         return u.copy()
     special = _scipy_special()
     scores = special.ndtri(np.arange(1, m + 1) / (m + 1.0))
-    order_u = np.argsort(u, axis=0, kind="stable")
+    order_u = np.argsort(u, axis=1)  # rows are contiguous: fast sorts
     s = np.empty_like(u)
     for j in range(k):
-        s[order_u[:, j], j] = scores
-    e = np.corrcoef(s, rowvar=False)
+        s[j, order_u[j]] = scores
+    e = np.corrcoef(s)
     try:
         q = np.linalg.cholesky(e)
     except np.linalg.LinAlgError:
         return u.copy()
-    t = np.linalg.solve(q, s.T).T @ _factor(target).T
+    t = _factor(target) @ np.linalg.solve(q, s)
     out = np.empty_like(u)
     for j in range(k):
-        out[np.argsort(t[:, j], kind="stable"), j] = u[order_u[:, j], j]
+        out[j, np.argsort(t[j])] = u[j, order_u[j]]
     return out
 
 
@@ -352,23 +353,23 @@ def copula_correlation(target: np.ndarray) -> np.ndarray:
 
 
 def gaussian_copula(u: np.ndarray, target: np.ndarray) -> np.ndarray:
-    """Uniforms (m, k) given the Spearman ``target`` through a Gaussian copula.
+    """Uniforms (k inputs, m points) through a Gaussian copula with normal correlation ``target``.
 
     Normal scores ``Φ⁻¹(u)`` are mixed by the lower Cholesky factor of
-    :func:`copula_correlation` and mapped back with ``Φ``. The first column
+    ``target`` (pass :func:`copula_correlation` of a Spearman target) and
+    mapped back with ``Φ``. The first column
     keeps its values up to the rounding of ``Φ(Φ⁻¹(u))``; the others get new
     values (still uniform), so a Latin hypercube's strata survive only in it.
 
     Examples
     --------
-    >>> u = np.random.default_rng(2).random((20000, 2))
-    >>> out = gaussian_copula(u, np.array([[1, 0.5], [0.5, 1]]))
-    >>> round(float(spearman([out[:, 0], out[:, 1]])[0, 1]), 1)
+    >>> u = np.random.default_rng(2).random((2, 20000))
+    >>> out = gaussian_copula(u, copula_correlation(np.array([[1, 0.5], [0.5, 1]])))
+    >>> round(float(spearman([out[0], out[1]])[0, 1]), 1)
     0.5
     """
     special = _scipy_special()
-    z = special.ndtri(u) @ _factor(copula_correlation(target)).T
-    return special.ndtr(z)
+    return special.ndtr(_factor(target) @ special.ndtri(u))
 
 
 def as_error(exc: InputError, field: str) -> InputError:

@@ -34,7 +34,7 @@ from .._limits import MAX_NAME_CHARS, MAX_SPEC_BYTES
 from .._streams import root_seed
 from .._validate import choice, fail, integer, mapping, quote, text
 from ..sketch import Sketch
-from .dependence import check_rank_corr, gaussian_copula, iman_conover
+from .dependence import check_rank_corr, copula_correlation, gaussian_copula, iman_conover
 from .designs import DESIGNS, SOBOL_MAX, WINDOW, clip_open, design_uniforms
 from .draws import Draws
 
@@ -281,18 +281,19 @@ class InputSet:
     ) -> Iterator[tuple[int, dict[str, np.ndarray]]]:
         """(start, name → uniforms) for each window of the ``n`` points, in order."""
         group = self._group if dependence != "independent" else ()
+        normal = copula_correlation(self._matrix) if group else None
         for k in range(math.ceil(n / WINDOW)):
             start = k * WINDOW
             m = min(WINDOW, n - start)
             u = design_uniforms(design, self._names, root, k, m)
             if group:
-                block = np.column_stack([u[g] for g in group])
+                block = np.vstack([u[g] for g in group])  # one row per input
                 if dependence == "iman-conover":
-                    block = iman_conover(block, self._matrix)
+                    block = iman_conover(block, normal)
                 else:
-                    block = clip_open(gaussian_copula(block, self._matrix))
+                    block = clip_open(gaussian_copula(block, normal))
                 for j, g in enumerate(group):
-                    u[g] = np.ascontiguousarray(block[:, j])
+                    u[g] = block[j]
             yield start, u
 
     def _values(

@@ -2,10 +2,13 @@
 
 from __future__ import annotations
 
+import contextlib
 import warnings
 
 import numpy as np
 import pytest
+from hypothesis import given, settings
+from hypothesis import strategies as st
 
 from cdfsketch import Sketch
 from cdfsketch._validate import InputError
@@ -205,3 +208,58 @@ PINNED = {
     "cost": [285.669479, 466.879912, 198.769805, 301.94361, 353.487221],
     "delay": [4.997468, 0.974331, 2.73777, -1.026357, 6.229366],
 }
+
+
+def test_import_and_independent_random_draws_stay_numpy_only():
+    import subprocess
+    import sys
+    from pathlib import Path
+
+    code = (
+        "import sys, cdfsketch.inputs, cdfsketch.cli\n"
+        "from cdfsketch import Sketch\n"
+        "from cdfsketch.inputs import InputSet\n"
+        "s = Sketch([0, 1], [0, 1])\n"
+        "InputSet({'a': s, 'b': s}).sample(100, rng=1)\n"
+        "heavy = ('scipy', 'pandas', 'jsonschema', 'pyarrow', 'tqdm', 'ipywidgets', 'matplotlib')\n"
+        "print([m for m in heavy if m in sys.modules])\n"
+    )
+    root = Path(__file__).parents[2]
+    res = subprocess.run(
+        [sys.executable, "-c", code],
+        capture_output=True,
+        text=True,
+        check=True,
+        env={"PYTHONPATH": str(root), "PATH": ""},
+    )
+    assert res.stdout.strip() == "[]"
+
+
+@contextlib.contextmanager
+def small_window():
+    # a window of 700 points, so that many window edges fall inside a short run
+    from cdfsketch.inputs import designs, inputset
+
+    old = inputset.WINDOW
+    inputset.WINDOW = designs.WINDOW = 700
+    try:
+        yield
+    finally:
+        inputset.WINDOW = designs.WINDOW = old
+
+
+@settings(max_examples=25, deadline=None)
+@given(
+    n=st.integers(0, 3 * 700 + 5),
+    block=st.integers(1, 900),
+    design=st.sampled_from(["random", "lhs"]),
+)
+def test_blocks_equal_one_call_for_any_cut(n, block, design):
+    ins = make(rank_corr={("cost", "hours"): 0.5})
+    with small_window():
+        whole = ins.sample(n, rng=1, design=design)
+        parts = list(ins.blocks(n, block=block, rng=1, design=design))
+    assert sum(p.size for p in parts) == n
+    for name in ins.names:
+        got = np.concatenate([p[name] for p in parts]) if parts else np.empty(0)
+        np.testing.assert_array_equal(got, whole[name])
