@@ -33,7 +33,7 @@ import numpy as np
 
 from .._validate import fail
 from ..inputs import InputSet
-from ..inputs.dependence import gaussian_copula, iman_conover
+from ..inputs.dependence import copula_correlation, gaussian_copula, iman_conover
 from ..inputs.designs import WINDOW, clip_open, design_uniforms
 
 __all__ = [
@@ -115,16 +115,19 @@ def window_uniforms(
     >>> bool(np.array_equal(u, ins.uniforms(5, rng=3)["a"]))
     True
     """
+    # The same steps as InputSet's own window loop (a test checks they agree);
+    # to be replaced by a public per-window call on InputSet when it has one.
     u = design_uniforms(design, inputs.names, root, k, m)
     group, target = inputs.target_matrix()
     if group and dependence != "independent":
-        table = np.column_stack([u[g] for g in group])
+        table = np.vstack([u[g] for g in group])  # one row per input
+        normal = copula_correlation(target)
         if dependence == "iman-conover":
-            table = iman_conover(table, target)
+            table = iman_conover(table, normal)
         else:
-            table = clip_open(gaussian_copula(table, target))
+            table = clip_open(gaussian_copula(table, normal))
         for j, g in enumerate(group):
-            u[g] = np.ascontiguousarray(table[:, j])
+            u[g] = table[j]
     return u
 
 
