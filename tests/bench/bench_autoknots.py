@@ -13,7 +13,7 @@ import sys
 import numpy as np
 from _timing import best_of
 
-from cdfsketch.autoknots import from_data
+from cdfsketch.elicit import from_data
 
 
 def main(quick: bool = False) -> dict[str, float]:

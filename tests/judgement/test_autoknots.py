@@ -8,8 +8,8 @@ import scipy.stats as st
 from hypothesis import given, settings
 from hypothesis import strategies as hs
 
-from cdfsketch import BoundedTail, Sketch, autoknots, data_fingerprint, load
-from cdfsketch.autoknots import from_data
+from cdfsketch import BoundedTail, Sketch, data_fingerprint, load
+from cdfsketch.elicit import autoknots, from_data
 from cdfsketch.empirical import ECDF, DataError
 
 
@@ -111,9 +111,10 @@ def test_provenance_and_spec_round_trip():
     assert s.name == "repair time" and s.units == "h"
 
 
-def test_sketch_from_data_delegates():
-    data = st.norm().rvs(size=300, random_state=np.random.default_rng(9))
-    assert Sketch.from_data(data, level=0.9) == from_data(data, level=0.9)
+def test_top_level_from_data_is_the_elicit_one():
+    import cdfsketch.elicit
+
+    assert cdfsketch.elicit.from_data is from_data
 
 
 def test_nan_dropped_with_warning():

@@ -90,10 +90,10 @@ from typing import Any, Literal
 
 import numpy as np
 
-from .empirical import ECDF, Band, as_data
-from .sketch import Sketch
-from .spec import data_fingerprint
-from .tails import Tail
+from ..empirical import ECDF, Band, as_data
+from ..sketch import Sketch
+from ..spec import data_fingerprint
+from ..tails import Tail
 
 __all__ = ["from_data"]
 
