@@ -94,6 +94,8 @@ from ..empirical import ECDF, Band, as_data
 from ..sketch import Sketch
 from ..spec import data_fingerprint
 from ..tails import Tail
+from ._common import clean_knots
+from .minlink import fewest_links
 
 __all__ = ["from_data"]
 
@@ -105,126 +107,38 @@ MARGIN = 1e-10
 DECIMATE_ABOVE = 200_000
 #: The outline's tolerance as a fraction of the band's half-width ε.
 DECIMATE_FRACTION = 1 / 16
-_FIRST_CHUNK = 256
 
 
-def _cone_segment(
-    xs: np.ndarray,
-    lo: np.ndarray,
-    hi: np.ndarray,
-    a: int,
-    ya: float,
-    b: int,
-) -> tuple[int, float]:
-    """Longest segment from ``(xs[a], ya)`` meeting windows ``a+1 … k ≤ b``: ``(k, slope)``."""
-    smin_run, smax_run = 0.0, np.inf
-    start = a + 1
-    chunk = _FIRST_CHUNK
-    xa = xs[a]
-    while start <= b:
-        stop = min(start + chunk, b + 1)
-        dx = xs[start:stop] - xa
-        smin = np.maximum.accumulate(np.maximum((lo[start:stop] - ya) / dx, smin_run))
-        smax = np.minimum.accumulate(np.minimum((hi[start:stop] - ya) / dx, smax_run))
-        bad = np.flatnonzero(smin > smax)
-        if bad.size:
-            f = int(bad[0])
-            if f == 0:
-                return start - 1, 0.5 * (smin_run + smax_run)
-            return start + f - 1, 0.5 * (smin[f - 1] + smax[f - 1])
-        smin_run, smax_run = float(smin[-1]), float(smax[-1])
-        start = stop
-        chunk *= 2
-    return b, 0.5 * (smin_run + smax_run) if np.isfinite(smax_run) else smin_run
+def _linear_knots(xs: np.ndarray, lo: np.ndarray, hi: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
+    """Knots of a minimum-link non-decreasing polyline meeting every window.
 
-
-def _line_fits(
-    xs: np.ndarray, lo: np.ndarray, hi: np.ndarray, i: int, yi: float, k: int, yk: float
-) -> bool:
-    """Whether the line from ``(xs[i], yi)`` to ``(xs[k], yk)`` meets windows ``i+1 … k-1``."""
-    if k <= i + 1:
-        return True
-    g = yi + (yk - yi) * (xs[i + 1 : k] - xs[i]) / (xs[k] - xs[i])
-    return bool(np.all((g >= lo[i + 1 : k]) & (g <= hi[i + 1 : k])))
-
-
-def _greedy_knots(
-    xs: np.ndarray, lo: np.ndarray, hi: np.ndarray
-) -> tuple[list[int], list[float], list[bool]]:
-    """Greedy knots: indices into ``xs``, values, and whether a knot is an atom's top."""
+    Runs between forced atoms are independent (the jump absorbs any level),
+    so each run is solved by :func:`~cdfsketch.elicit.minlink.fewest_links`
+    and the runs are joined by two knots at each atom.
+    """
     m = xs.size
     atom = lo > hi
     atom[0] = lo[0] > 0.0
     atom[-1] = hi[-1] < 1.0
-    # windows the cone must meet: at an atom only the arrival G(x⁻) ≤ hi counts;
-    # without an atom at the maximum the sketch ends at exactly 1 there
-    clo, chi = lo.copy(), hi.copy()
-    clo[atom] = -np.inf
-    if not atom[-1]:
-        clo[-1] = chi[-1] = 1.0
-    idx: list[int] = [0]
-    val: list[float] = [0.0]
-    top: list[bool] = [False]
-
-    def open_atom(j: int) -> float:
-        y = 1.0 if j == m - 1 else 0.5 * (lo[j] + hi[j + 1])
-        idx.append(j)
-        val.append(y)
-        top.append(True)
-        return y
-
-    a, ya = 0, 0.0
-    if atom[0]:
-        ya = open_atom(0)
+    kx: list[float] = [float(xs[0])]
+    ky: list[float] = [0.0]
+    start = (float(lo[0]), float(hi[1])) if atom[0] else (0.0, 0.0)
+    a = 0
     for b in [*(np.flatnonzero(atom[1:-1]) + 1).tolist(), m - 1]:
-        while a < b:
-            k, s = _cone_segment(xs, clo, chi, a, ya, b)
-            if k <= a:
-                raise RuntimeError(
-                    f"automatic knots: no line from x={xs[a]!r} meets the next window; "
-                    "please report this with the data."
-                )
-            y = min(max(ya + s * (xs[k] - xs[a]), clo[k], ya), chi[k])
-            idx.append(k)
-            val.append(float(y))
-            top.append(False)
-            a, ya = k, float(y)
-        if atom[b]:
-            ya = open_atom(b)
-    return idx, val, top
-
-
-def _remove_knots(
-    xs: np.ndarray, lo: np.ndarray, hi: np.ndarray, idx: list[int], val: list[float]
-) -> tuple[list[int], list[float]]:
-    """Drop interior knots whose neighbours can be joined inside the windows."""
-    if len(idx) <= 2:
-        return list(idx), list(val)
-    out_i, out_v = [idx[0]], [val[0]]
-    for j in range(1, len(idx) - 1):
-        if not _line_fits(xs, lo, hi, out_i[-1], out_v[-1], idx[j + 1], val[j + 1]):
-            out_i.append(idx[j])
-            out_v.append(val[j])
-    out_i.append(idx[-1])
-    out_v.append(val[-1])
-    return out_i, out_v
-
-
-def _linear_knots(xs: np.ndarray, lo: np.ndarray, hi: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
-    """Knots of a non-decreasing polyline meeting every window (greedy, then pruned)."""
-    idx, val, top = _greedy_knots(xs, lo, hi)
-    # remove knots within runs between atoms (an atom's top opens a new run)
-    ki: list[int] = []
-    kv: list[float] = []
-    cuts = [j for j, t in enumerate(top) if t]
-    for s0, s1 in zip([0, *cuts], [*cuts, len(idx)], strict=True):
-        ri, rv = _remove_knots(xs, lo, hi, idx[s0:s1], val[s0:s1])
-        ki += ri
-        kv += rv
-    lin_x = xs[ki]
-    lin_p = np.asarray(kv)
-    lin_p = np.maximum.accumulate(np.clip(lin_p, 0.0, 1.0))
-    return lin_x, lin_p
+        if b < m - 1 or atom[-1]:
+            end = (0.0, float(hi[b]))
+        else:
+            end = (1.0, 1.0)
+        rx, ry = fewest_links(xs[a : b + 1], lo[a : b + 1], hi[a : b + 1], start, end)
+        kx += rx.tolist()
+        ky += ry.tolist()
+        if b < m - 1:
+            start = (float(lo[b]), float(hi[b + 1]))
+            a = b
+    if atom[-1]:
+        kx.append(float(xs[-1]))
+        ky.append(1.0)
+    return clean_knots(np.asarray(kx), np.asarray(ky))
 
 
 def _violations(

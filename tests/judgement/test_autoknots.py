@@ -91,7 +91,9 @@ def test_atoms_where_ties_exceed_the_band():
     zero_inflated = np.r_[np.zeros(300), rng.exponential(size=700)]
     z = from_data(zero_inflated)
     assert _inside(z, zero_inflated, 0.95) <= 0
-    assert z.atoms[0].x == 0.0 and z.atoms[0].mass == pytest.approx(0.3, abs=1e-6)
+    # the band forces a jump at 0 of any size within ε of the tie's share 0.3
+    eps = z.provenance["extra"]["eps"]
+    assert z.atoms[0].x == 0.0 and abs(z.atoms[0].mass - 0.3) <= eps
 
 
 def test_provenance_and_spec_round_trip():
