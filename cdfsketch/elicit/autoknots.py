@@ -101,7 +101,7 @@ __all__ = ["from_data"]
 
 #: Windows are narrowed by this much in p so that rounding in the sketch's
 #: cdf cannot push it outside the band.
-MARGIN = 1e-10
+MARGIN = 1e-8
 #: Above this many distinct values the knots are found on the decimated outline
 #: (module docstring, "Large samples").
 DECIMATE_ABOVE = 200_000

@@ -60,19 +60,26 @@ __all__ = ["fewest_links"]
 
 
 def _clip(poly: list[tuple[float, float]], a: float, b: float, r: float) -> list:
-    """Part of convex polygon ``poly`` (dual points ``(s, c)``) with ``a·s + b·c ≤ r``."""
+    """Part of convex polygon ``poly`` (dual points ``(s, c)``) with ``a·s + b·c ≤ r``.
+
+    A vertex within rounding of the boundary (relative to the size of the
+    terms) counts as on it, so a thin feasible sliver is never lost.
+    """
     out: list[tuple[float, float]] = []
     n = len(poly)
     if n == 0:
         return out
-    tol = 1e-13 * (abs(r) + 1.0)
+    f = []
+    for s, c in poly:
+        v = a * s + b * c - r
+        scale = abs(a * s) + abs(b * c) + abs(r)
+        f.append(0.0 if abs(v) <= 1e-12 * scale else v)
     for i in range(n):
         p, q = poly[i], poly[(i + 1) % n]
-        fp = a * p[0] + b * p[1] - r
-        fq = a * q[0] + b * q[1] - r
-        if fp <= tol:
+        fp, fq = f[i], f[(i + 1) % n]
+        if fp <= 0.0:
             out.append(p)
-        if (fp < -tol and fq > tol) or (fp > tol and fq < -tol):
+        if (fp < 0.0 < fq) or (fq < 0.0 < fp):
             t = fp / (fp - fq)
             out.append((p[0] + t * (q[0] - p[0]), p[1] + t * (q[1] - p[1])))
     return out
@@ -84,10 +91,17 @@ class _Source:
     ``kind`` is "segment", "up" (cross the line upwards) or "down".
     The line is ``y = c + s (x − xr)``; the window is ``[xs, xe]`` on it.
     ``lo_from`` / ``hi_from`` are the first window indices whose lower /
-    upper constraint the next link must meet.
+    upper constraint the next link must meet. The next link's lines are
+    written ``y = c + s (x − ref)`` with ``ref`` at the window's far end (the
+    start for a segment), where its constraints begin: this keeps the dual
+    polygon well conditioned.
     """
 
     __slots__ = ("c", "hi_from", "kind", "lo_from", "s", "xe", "xr", "xs", "y_hi", "y_lo")
+
+    @property
+    def ref(self) -> float:
+        return self.xs if self.kind == "segment" else self.xe
 
     def __init__(self, kind, xr, s, c, xs, xe, lo_from, hi_from, y_lo=0.0, y_hi=0.0):
         self.kind, self.xr, self.s, self.c = kind, xr, s, c
@@ -99,17 +113,17 @@ class _Source:
         return self.c + self.s * (x - self.xr)
 
     def polygon(self, s_max: float) -> list[tuple[float, float]]:
-        """Lines ``(s, c)`` with ``c = ℓ(self.xs)`` that start on this source."""
+        """Lines ``(s, c)`` with ``c = ℓ(self.ref)`` that start on this source."""
         if self.kind == "segment":
             lo, hi = self.y_lo, self.y_hi
             return [(0.0, lo), (s_max, lo), (s_max, hi), (0.0, hi)]
         big = s_max * (abs(self.xe - self.xs) + 1.0) + 4.0
         poly = [(0.0, -big), (s_max, -big), (s_max, big), (0.0, big)]
-        ys, ye, w = self.at(self.xs), self.at(self.xe), self.xe - self.xs
+        ys, ye, w = self.at(self.xs), self.at(self.xe), self.xs - self.xe
         sign = 1.0 if self.kind == "up" else -1.0
         # up: ℓ(xs) ≤ W(xs) and ℓ(xe) ≥ W(xe); down: the reverse
-        poly = _clip(poly, 0.0, sign, sign * ys)
-        return _clip(poly, -sign * w, -sign, -sign * ye)
+        poly = _clip(poly, sign * w, sign, sign * ys)
+        return _clip(poly, 0.0, -sign, -sign * ye)
 
 
 def _scan(poly, src, x, lo, hi, j, end):
@@ -119,7 +133,7 @@ def _scan(poly, src, x, lo, hi, j, end):
     failing window, its index, "up" | "down")``. A window is tested against
     the polygon's vertices first; only a binding one clips it.
     """
-    xr = src.xs
+    xr = src.ref
     lo_from, hi_from = src.lo_from, src.hi_from
     xl = x.tolist() if isinstance(x, np.ndarray) else x
     lol = lo.tolist() if isinstance(lo, np.ndarray) else lo
@@ -218,15 +232,15 @@ def fewest_links(
         v = np.asarray(poly)
         if fail_at is None:
             s, c = v.mean(axis=0)
-            lines.append(((src.xs, float(s), float(c)), src))
+            lines.append(((src.ref, float(s), float(c)), src))
             break
         if len(lines) > b + 2:
             raise RuntimeError("fewest_links: no progress; please report this with the data.")
         xj = float(x[fail_at])
-        vals = v[:, 1] + v[:, 0] * (xj - src.xs)
+        vals = v[:, 1] + v[:, 0] * (xj - src.ref)
         pick = int(np.argmax(vals)) if side == "up" else int(np.argmin(vals))
         s, c = float(v[pick, 0]), float(v[pick, 1])
-        line = (src.xs, s, c)
+        line = (src.ref, s, c)
         lines.append((line, src))
         xs_new = _crossing(line, src)
         if side == "up":
@@ -234,10 +248,10 @@ def fewest_links(
             lo_from, hi_from = fail_at, int(np.searchsorted(x, xs_new, side="right"))
         else:
             top = float(hi[fail_at])
-            xe_new = src.xs + (top - c) / s if s > 0 else xj
+            xe_new = src.ref + (top - c) / s if s > 0 else xj
             xe_new = min(max(xe_new, float(x[fail_at - 1])), xj)
             lo_from, hi_from = int(np.searchsorted(x, xs_new, side="right")), fail_at
-        src = _Source(side, src.xs, s, c, xs_new, xe_new, lo_from, hi_from)
+        src = _Source(side, src.ref, s, c, xs_new, xe_new, lo_from, hi_from)
     kx = [float(x[0])]
     first_line = lines[0][0]
     ky = [first_line[2] + first_line[1] * (x[0] - first_line[0])]
