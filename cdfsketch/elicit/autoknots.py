@@ -107,14 +107,23 @@ MARGIN = 1e-8
 DECIMATE_ABOVE = 200_000
 #: The outline's tolerance as a fraction of the band's half-width ε.
 DECIMATE_FRACTION = 1 / 16
+#: Knot budget: the outline's tolerance as a fraction of the trial widening.
+BUDGET_OUTLINE = 1 / 4
+#: Knot budget: the bisection stops when the widening is known to this ratio.
+BUDGET_PRECISION = 0.05
+#: Knot budget: widenings below this fraction of ε count as "inside the band".
+BUDGET_FLOOR = 1 / 64
 
 
-def _linear_knots(xs: np.ndarray, lo: np.ndarray, hi: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
+def _linear_knots(
+    xs: np.ndarray, lo: np.ndarray, hi: np.ndarray, max_knots: int | None = None
+) -> tuple[np.ndarray, np.ndarray] | None:
     """Knots of a minimum-link non-decreasing polyline meeting every window.
 
     Runs between forced atoms are independent (the jump absorbs any level),
     so each run is solved by :func:`~cdfsketch.elicit.minlink.fewest_links`
-    and the runs are joined by two knots at each atom.
+    and the runs are joined by two knots at each atom. ``None`` when more
+    than ``max_knots`` knots would be needed.
     """
     m = xs.size
     atom = lo > hi
@@ -125,20 +134,28 @@ def _linear_knots(xs: np.ndarray, lo: np.ndarray, hi: np.ndarray) -> tuple[np.nd
     start = (float(lo[0]), float(hi[1])) if atom[0] else (0.0, 0.0)
     a = 0
     for b in [*(np.flatnonzero(atom[1:-1]) + 1).tolist(), m - 1]:
-        if b < m - 1 or atom[-1]:
-            end = (0.0, float(hi[b]))
-        else:
-            end = (1.0, 1.0)
-        rx, ry = fewest_links(xs[a : b + 1], lo[a : b + 1], hi[a : b + 1], start, end)
-        kx += rx.tolist()
-        ky += ry.tolist()
+        end = (0.0, float(hi[b])) if b < m - 1 or atom[-1] else (1.0, 1.0)
+        left = None
+        if max_knots is not None:
+            # knots so far, the run's own (links + 1, the first may repeat the last), the top
+            left = max_knots - len(kx) - int(bool(atom[-1]))
+            if left < 1:
+                return None
+        run = fewest_links(xs[a : b + 1], lo[a : b + 1], hi[a : b + 1], start, end, max_links=left)
+        if run is None:
+            return None
+        kx += run[0].tolist()
+        ky += run[1].tolist()
         if b < m - 1:
             start = (float(lo[b]), float(hi[b + 1]))
             a = b
     if atom[-1]:
         kx.append(float(xs[-1]))
         ky.append(1.0)
-    return clean_knots(np.asarray(kx), np.asarray(ky))
+    out = clean_knots(np.asarray(kx), np.asarray(ky))
+    if max_knots is not None and out[0].size > max_knots:
+        return None
+    return out
 
 
 def _violations(
@@ -150,13 +167,14 @@ def _violations(
     return float(over.max()), over
 
 
-def _outline_windows(ecdf: ECDF, band: Band) -> tuple[np.ndarray, np.ndarray, np.ndarray, float]:
+def _outline_windows(
+    ecdf: ECDF, band: Band, tol: float
+) -> tuple[np.ndarray, np.ndarray, np.ndarray, float]:
     """Jump points and windows of the narrowed band around the decimated outline ``D``.
 
-    Returns ``(x, lo, hi, delta)`` with ``delta = sup (F_n - D)`` (exact); see the module
-    docstring, "Large samples".
+    Returns ``(x, lo, hi, delta)`` with ``delta = sup (F_n - D) < tol`` (exact); see the
+    module docstring, "Large samples".
     """
-    tol = band.eps * DECIMATE_FRACTION
     out = ecdf.steps(max_points=4 * math.ceil(1.0 / tol) + 8, tolerance=tol)
     delta = float(out.max_error)
     kx = out.x[0::2]
@@ -165,6 +183,60 @@ def _outline_windows(ecdf: ECDF, band: Band) -> tuple[np.ndarray, np.ndarray, np
     lo = np.maximum(kp - (band.eps - delta), 0.0)
     hi = np.minimum(kl + band.eps, 1.0)
     return kx, lo, hi, delta
+
+
+def _windows(ecdf: ECDF, band: Band, tol: float) -> tuple[np.ndarray, np.ndarray, np.ndarray, float]:
+    """The exact windows, or the outline's when there are more than ``4/tol`` jump points."""
+    if ecdf.x.size > 4 / tol:
+        return _outline_windows(ecdf, band, tol)
+    lo, hi = band.windows()
+    return ecdf.x, lo, hi, 0.0
+
+
+def _narrowed(lo0: np.ndarray, hi0: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
+    wide = (hi0 - lo0) > 4 * MARGIN
+    lo = np.where(wide, lo0 + MARGIN, lo0)
+    hi = np.where(wide, hi0 - MARGIN, hi0)
+    lo[0] = lo0[0]
+    hi[-1] = hi0[-1]
+    return lo, hi
+
+
+def _widened(lo0: np.ndarray, hi0: np.ndarray, w: float) -> tuple[np.ndarray, np.ndarray]:
+    return _narrowed(np.maximum(lo0 - w, 0.0), np.minimum(hi0 + w, 1.0))
+
+
+def _budget_knots(
+    ecdf: ECDF, band: Band, budget: int
+) -> tuple[np.ndarray, np.ndarray, np.ndarray, np.ndarray, np.ndarray, float, float]:
+    """At most ``budget`` knots, as close to the band as the search finds (module notes)."""
+    eps = band.eps
+    w_hi, w_lo = 1.0, eps * BUDGET_FLOOR
+    cache: dict[float, Any] = {}
+
+    def trial(w: float) -> Any:
+        if w not in cache:
+            xs, lo0, hi0, delta = _windows(ecdf, band, eps * DECIMATE_FRACTION if w == 0 else
+                                           max(w * BUDGET_OUTLINE, eps * DECIMATE_FRACTION))
+            lo, hi = _widened(lo0, hi0, w)
+            cache[w] = (_linear_knots(xs, lo, hi, max_knots=budget), xs, lo0, hi0, delta)
+        return cache[w]
+
+    if trial(w_lo)[0] is not None:
+        if trial(0.0)[0] is not None:
+            w_hi = 0.0
+        else:
+            w_hi = w_lo
+    else:
+        while w_hi / w_lo > 1.0 + BUDGET_PRECISION:
+            mid = math.sqrt(w_hi * w_lo)
+            if trial(mid)[0] is not None:
+                w_hi = mid
+            else:
+                w_lo = mid
+    knots, xs, lo0, hi0, delta = trial(w_hi)
+    assert knots is not None
+    return knots[0], knots[1], xs, lo0, hi0, delta, w_hi
 
 
 def _check_int(value: Any, name: str, low: int) -> int | None:
@@ -260,19 +332,16 @@ def _from_ecdf(
 ) -> Sketch:
     """:func:`from_data` on an ECDF already built (the editor builds it once for all uses)."""
     band = ecdf.band(level=level)
-    if ecdf.x.size > DECIMATE_ABOVE:
-        xs, lo0, hi0, delta = _outline_windows(ecdf, band)
+    widening = 0.0
+    if budget is None:
+        xs, lo0, hi0, delta = _windows(ecdf, band, band.eps * DECIMATE_FRACTION)
+        if ecdf.x.size <= DECIMATE_ABOVE:
+            xs, lo0, hi0, delta = ecdf.x, *band.windows(), 0.0
+        lo, hi = _narrowed(lo0, hi0)
+        lin_x, lin_p = _linear_knots(xs, lo, hi)  # type: ignore[misc]
     else:
-        xs = ecdf.x
-        lo0, hi0 = band.windows()
-        delta = 0.0
-    wide = (hi0 - lo0) > 4 * MARGIN
-    lo = np.where(wide, lo0 + MARGIN, lo0)
-    hi = np.where(wide, hi0 - MARGIN, hi0)
-    lo[0] = lo0[0]
-    hi[-1] = hi0[-1]
-
-    lin_x, lin_p = _linear_knots(xs, lo, hi)
+        lin_x, lin_p, xs, lo0, hi0, delta, widening = _budget_knots(ecdf, band, budget)
+        lo, hi = _widened(lo0, hi0, widening)
 
     def build(kx: np.ndarray, kp: np.ndarray, interp: str) -> Sketch:
         return Sketch(
@@ -283,7 +352,7 @@ def _from_ecdf(
     sketch = build(lin_x, lin_p, interpolation)
     worst, over = _violations(xs, sketch, lo0, hi0)
     kx, kp = sketch.x, sketch.p
-    while worst > 0:
+    while budget is None and worst > 0:
         # add the worst data value of each offending knot interval, mid-window
         bad = np.flatnonzero(over > 0)
         seg = np.searchsorted(kx, xs[bad], side="right")
@@ -306,12 +375,6 @@ def _from_ecdf(
         sketch = build(kx, kp, interpolation)
         worst, over = _violations(xs, sketch, lo0, hi0)
 
-    if budget is not None and len(sketch) > budget:
-        raise ValueError(
-            f"The data need {len(sketch)} knots to stay inside the {level:.0%} band "
-            f"(ε={band.eps:.4g}, n={ecdf.n}); max_knots={budget} is too few. Raise max_knots to "
-            f"{len(sketch)}, or raise level (a wider band) to need fewer."
-        )
     provenance = {
         "method": f"automatic knots inside the {level * 100:g}% DKW band",
         "data": fingerprint,
@@ -323,6 +386,8 @@ def _from_ecdf(
             "max_excursion": float(worst),
             "interpolation": interpolation,
             "outline_tolerance": delta,
+            "max_knots": budget,
+            "widening": float(widening),
         },
     }
     return sketch.replace(provenance=provenance)

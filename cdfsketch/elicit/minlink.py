@@ -52,6 +52,7 @@ window.
 
 from __future__ import annotations
 
+import bisect
 import math
 
 import numpy as np
@@ -59,30 +60,178 @@ import numpy as np
 __all__ = ["fewest_links"]
 
 
-def _clip(poly: list[tuple[float, float]], a: float, b: float, r: float) -> list:
-    """Part of convex polygon ``poly`` (dual points ``(s, c)``) with ``a·s + b·c ≤ r``.
+class _MinEnvelope:
+    """``min_i (m_i·s + q_i)`` for lines added with non-increasing slopes (a monotone stack).
 
-    A vertex within rounding of the boundary (relative to the size of the
-    terms) counts as on it, so a thin feasible sliver is never lost.
+    Line ``i`` is the minimum on ``[bp[i], bp[i+1])``; adding a line pops
+    the ones it hides (amortised O(1), the "convex hull trick").
     """
-    out: list[tuple[float, float]] = []
-    n = len(poly)
-    if n == 0:
-        return out
-    f = []
-    for s, c in poly:
-        v = a * s + b * c - r
-        scale = abs(a * s) + abs(b * c) + abs(r)
-        f.append(0.0 if abs(v) <= 1e-12 * scale else v)
-    for i in range(n):
-        p, q = poly[i], poly[(i + 1) % n]
-        fp, fq = f[i], f[(i + 1) % n]
-        if fp <= 0.0:
-            out.append(p)
-        if (fp < 0.0 < fq) or (fq < 0.0 < fp):
-            t = fp / (fp - fq)
-            out.append((p[0] + t * (q[0] - p[0]), p[1] + t * (q[1] - p[1])))
-    return out
+
+    __slots__ = ("bp", "m", "q")
+
+    def __init__(self) -> None:
+        self.m: list[float] = []
+        self.q: list[float] = []
+        self.bp: list[float] = []
+
+    def add(self, m: float, q: float) -> None:
+        M, Q, B = self.m, self.q, self.bp
+        while M:
+            if m == M[-1]:
+                if q >= Q[-1]:
+                    return
+                M.pop(), Q.pop(), B.pop()
+                continue
+            x = (q - Q[-1]) / (M[-1] - m)
+            if x <= B[-1]:
+                M.pop(), Q.pop(), B.pop()
+                continue
+            M.append(m), Q.append(q), B.append(x)
+            return
+        M.append(m), Q.append(q), B.append(-math.inf)
+
+    def piece(self, s: float) -> int:
+        return bisect.bisect_right(self.bp, s) - 1
+
+    def at(self, s: float) -> float:
+        i = bisect.bisect_right(self.bp, s) - 1
+        return self.m[i] * s + self.q[i]
+
+
+class _Region:
+    """Dual lines ``(s, c)`` with ``s ∈ [a, b]`` and ``L(s) ≤ c ≤ U(s)``.
+
+    ``U`` is a :class:`_MinEnvelope` of upper constraints ``c ≤ m s + q``; the
+    lower constraints ``c ≥ m s + q`` are kept mirrored (``t = −s``) so they
+    also form a min-envelope with non-increasing slopes. Adding a constraint
+    tests the interval's two ends (the gap ``U − L`` is concave, so a
+    constraint that holds at both ends holds in between unless it cuts
+    through the middle, which is checked at the breakpoints) and moves them.
+    """
+
+    def __init__(self, a: float, b: float) -> None:
+        self.a, self.b = a, b
+        self.up = _MinEnvelope()
+        self.low = _MinEnvelope()  # lines (m, -q) in t = -s
+
+    def U(self, s: float) -> float:
+        return self.up.at(s)
+
+    def L(self, s: float) -> float:
+        return -self.low.at(-s)
+
+    def _points(self, env: _MinEnvelope, mirrored: bool) -> list[float]:
+        a, b = self.a, self.b
+        if mirrored:
+            lo_i, hi_i = env.piece(-b), env.piece(-a)
+            inner = [-v for v in env.bp[lo_i + 1 : hi_i + 1]][::-1]
+        else:
+            lo_i, hi_i = env.piece(a), env.piece(b)
+            inner = env.bp[lo_i + 1 : hi_i + 1]
+        return [a, *[v for v in inner if a < v < b], b]
+
+    def _cut(self, gap, pts, bad_a: bool, bad_b: bool) -> bool:
+        """Shrink ``[a, b]`` to where the concave ``gap(s) ≥ 0``; False if nowhere.
+
+        ``pts`` are ``a``, the breakpoints inside and ``b`` (``gap`` is linear
+        between them); ``bad_a`` / ``bad_b`` say at which ends it is negative.
+        With one bad end the root is found by walking in from that end only.
+        """
+        n = len(pts)
+        if bad_a and not bad_b:
+            v_prev = gap(pts[0])
+            for i in range(1, n):
+                v = gap(pts[i])
+                if v >= 0.0:
+                    s0, s1 = pts[i - 1], pts[i]
+                    self.a = s1 - v * (s1 - s0) / (v - v_prev) if v != v_prev else s1
+                    return True
+                v_prev = v
+            return False
+        if bad_b and not bad_a:
+            v_prev = gap(pts[-1])
+            for i in range(n - 2, -1, -1):
+                v = gap(pts[i])
+                if v >= 0.0:
+                    s0, s1 = pts[i], pts[i + 1]
+                    self.b = s0 + v * (s1 - s0) / (v - v_prev) if v != v_prev else s0
+                    return True
+                v_prev = v
+            return False
+        vals = [gap(s) for s in pts]
+        ok = [i for i, v in enumerate(vals) if v >= 0.0]
+        if not ok:
+            return False
+        i0, i1 = ok[0], ok[-1]
+        s0, s1, v0, v1 = pts[i0 - 1], pts[i0], vals[i0 - 1], vals[i0]
+        self.a = s1 - v1 * (s1 - s0) / (v1 - v0) if v1 != v0 else s1
+        s0, s1, v0, v1 = pts[i1], pts[i1 + 1], vals[i1], vals[i1 + 1]
+        self.b = s0 + v0 * (s1 - s0) / (v0 - v1) if v1 != v0 else s0
+        if self.b < self.a:
+            self.a = self.b = 0.5 * (self.a + self.b)
+        return True
+
+    def add_upper(self, m: float, q: float) -> bool:
+        """Add ``c ≤ m s + q``; False (and unchanged) if nothing is left."""
+        a, b = self.a, self.b
+        tol = 1e-15 * (abs(q) + abs(m) * max(abs(a), abs(b)) + 1.0)
+        if self.low.m:
+            bad_a = m * a + q < self.L(a) - tol
+            bad_b = m * b + q < self.L(b) - tol
+            if (bad_a or bad_b) and not self._cut(
+                lambda s: m * s + q - self.L(s) + tol, self._points(self.low, True), bad_a, bad_b
+            ):
+                return False
+        self.up.add(m, q)
+        return True
+
+    def add_lower(self, m: float, q: float) -> bool:
+        """Add ``c ≥ m s + q``; False (and unchanged) if nothing is left."""
+        a, b = self.a, self.b
+        tol = 1e-15 * (abs(q) + abs(m) * max(abs(a), abs(b)) + 1.0)
+        if self.up.m:
+            bad_a = m * a + q > self.U(a) + tol
+            bad_b = m * b + q > self.U(b) + tol
+            if (bad_a or bad_b) and not self._cut(
+                lambda s: self.U(s) - m * s - q + tol, self._points(self.up, False), bad_a, bad_b
+            ):
+                return False
+        self.low.add(m, -q)
+        return True
+
+    def vertices(self) -> list[tuple[float, float]]:
+        pts = sorted(set(self._points(self.up, False) + self._points(self.low, True)))
+        return [(s, self.U(s)) for s in pts] + [(s, self.L(s)) for s in pts[::-1]]
+
+
+def _scan(src, x, lo, hi, j, end, s_max):
+    """Add windows ``j…end`` to the lines leaving ``src`` while some line meets them all.
+
+    Returns ``(vertices, None, "")`` when all are met, else ``(vertices
+    before the failing window, its index, "up" | "down")``.
+    """
+    ref = src.ref
+    reg = _Region(0.0, s_max)
+    if src.kind == "segment":
+        reg.add_upper(0.0, src.y_hi)
+        reg.add_lower(0.0, src.y_lo)
+    else:
+        ys, ye, w = src.at(src.xs), src.at(src.xe), src.xe - src.xs
+        if src.kind == "up":  # ℓ(xs) ≤ W(xs), ℓ(xe) ≥ W(xe)
+            reg.add_upper(w, ys)
+            reg.add_lower(0.0, ye)
+        else:
+            reg.add_lower(w, ys)
+            reg.add_upper(0.0, ye)
+    lo_from, hi_from = src.lo_from, src.hi_from
+    xl, lol, hil = x.tolist(), lo.tolist(), hi.tolist()
+    for jj in range(j, end + 1):
+        m = ref - xl[jj]
+        if jj >= lo_from and not reg.add_lower(m, lol[jj]):
+            return reg.vertices(), jj, "up"
+        if jj >= hi_from and not reg.add_upper(m, hil[jj]):
+            return reg.vertices(), jj, "down"
+    return reg.vertices(), None, ""
 
 
 class _Source:
@@ -112,61 +261,6 @@ class _Source:
     def at(self, x: float) -> float:
         return self.c + self.s * (x - self.xr)
 
-    def polygon(self, s_max: float) -> list[tuple[float, float]]:
-        """Lines ``(s, c)`` with ``c = ℓ(self.ref)`` that start on this source."""
-        if self.kind == "segment":
-            lo, hi = self.y_lo, self.y_hi
-            return [(0.0, lo), (s_max, lo), (s_max, hi), (0.0, hi)]
-        big = s_max * (abs(self.xe - self.xs) + 1.0) + 4.0
-        poly = [(0.0, -big), (s_max, -big), (s_max, big), (0.0, big)]
-        ys, ye, w = self.at(self.xs), self.at(self.xe), self.xs - self.xe
-        sign = 1.0 if self.kind == "up" else -1.0
-        # up: ℓ(xs) ≤ W(xs) and ℓ(xe) ≥ W(xe); down: the reverse
-        poly = _clip(poly, sign * w, sign, sign * ys)
-        return _clip(poly, 0.0, -sign, -sign * ye)
-
-
-def _scan(poly, src, x, lo, hi, j, end):
-    """Clip ``poly`` by windows ``j…end`` while it stays non-empty.
-
-    Returns ``(poly, None, "")`` when all are met, else ``(poly before the
-    failing window, its index, "up" | "down")``. A window is tested against
-    the polygon's vertices first; only a binding one clips it.
-    """
-    xr = src.ref
-    lo_from, hi_from = src.lo_from, src.hi_from
-    xl = x.tolist() if isinstance(x, np.ndarray) else x
-    lol = lo.tolist() if isinstance(lo, np.ndarray) else lo
-    hil = hi.tolist() if isinstance(hi, np.ndarray) else hi
-    for jj in range(j, end + 1):
-        d = xl[jj] - xr
-        vmax = -math.inf
-        vmin = math.inf
-        for s, c in poly:
-            v = c + s * d
-            if v > vmax:
-                vmax = v
-            if v < vmin:
-                vmin = v
-        need_lo = lol[jj] if jj >= lo_from else -math.inf
-        need_hi = hil[jj] if jj >= hi_from else math.inf
-        if vmin >= need_lo and vmax <= need_hi:
-            continue
-        if vmax < need_lo:
-            return poly, jj, "up"
-        if vmin > need_hi:
-            return poly, jj, "down"
-        new = poly
-        if vmin < need_lo:
-            new = _clip(new, -d, -1.0, -need_lo)
-        if vmax > need_hi:
-            new = _clip(new, d, 1.0, need_hi)
-        if not new:  # a sliver lost to rounding: keep the vertex nearest the window
-            mid = 0.5 * (max(need_lo, vmin) + min(need_hi, vmax))
-            new = [min(poly, key=lambda v: abs(v[1] + v[0] * d - mid))]
-        poly = new
-    return poly, None, ""
-
 
 def _crossing(line: tuple[float, float, float], src: _Source) -> float:
     """x where ``line = (xr, s, c)`` meets the source's line, kept inside its window."""
@@ -185,7 +279,9 @@ def fewest_links(
     hi: np.ndarray,
     start: tuple[float, float],
     end: tuple[float, float],
-) -> tuple[np.ndarray, np.ndarray]:
+    *,
+    max_links: int | None = None,
+) -> tuple[np.ndarray, np.ndarray] | None:
     """Knots of a minimum-link non-decreasing polyline through the windows.
 
     Parameters
@@ -198,6 +294,8 @@ def fewest_links(
         ``[s_lo, s_hi]``: where the polyline may start at ``x_0``.
     end : (float, float)
         ``[e_lo, e_hi]``: where it must end at ``x_b``.
+    max_links : int, optional
+        Stop (and return ``None``) as soon as more links than this are needed.
 
     Returns
     -------
@@ -226,14 +324,15 @@ def fewest_links(
     src = _Source("segment", x[0], 0.0, start[0], x[0], x[0], 1, 1, start[0], start[1])
     lines: list[tuple[tuple[float, float, float], _Source]] = []
     while True:
-        poly = src.polygon(s_max)
         first = min(src.lo_from, src.hi_from)
-        poly, fail_at, side = _scan(poly, src, x, lo, hi, first, b)
+        poly, fail_at, side = _scan(src, x, lo, hi, first, b, s_max)
         v = np.asarray(poly)
         if fail_at is None:
             s, c = v.mean(axis=0)
             lines.append(((src.ref, float(s), float(c)), src))
             break
+        if max_links is not None and len(lines) >= max_links:
+            return None
         if len(lines) > b + 2:
             raise RuntimeError("fewest_links: no progress; please report this with the data.")
         xj = float(x[fail_at])
