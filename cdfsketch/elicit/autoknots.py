@@ -185,7 +185,9 @@ def _outline_windows(
     return kx, lo, hi, delta
 
 
-def _windows(ecdf: ECDF, band: Band, tol: float) -> tuple[np.ndarray, np.ndarray, np.ndarray, float]:
+def _windows(
+    ecdf: ECDF, band: Band, tol: float
+) -> tuple[np.ndarray, np.ndarray, np.ndarray, float]:
     """The exact windows, or the outline's when there are more than ``4/tol`` jump points."""
     if ecdf.x.size > 4 / tol:
         return _outline_windows(ecdf, band, tol)
@@ -216,8 +218,13 @@ def _budget_knots(
 
     def trial(w: float) -> Any:
         if w not in cache:
-            xs, lo0, hi0, delta = _windows(ecdf, band, eps * DECIMATE_FRACTION if w == 0 else
-                                           max(w * BUDGET_OUTLINE, eps * DECIMATE_FRACTION))
+            xs, lo0, hi0, delta = _windows(
+                ecdf,
+                band,
+                eps * DECIMATE_FRACTION
+                if w == 0
+                else max(w * BUDGET_OUTLINE, eps * DECIMATE_FRACTION),
+            )
             lo, hi = _widened(lo0, hi0, w)
             cache[w] = (_linear_knots(xs, lo, hi, max_knots=budget), xs, lo0, hi0, delta)
         return cache[w]
