@@ -53,6 +53,7 @@ window.
 from __future__ import annotations
 
 import bisect
+import itertools
 import math
 
 import numpy as np
@@ -356,7 +357,7 @@ def fewest_links(
     kx = [float(x[0])]
     first_line = lines[0][0]
     ky = [first_line[2] + first_line[1] * (x[0] - first_line[0])]
-    for (line, _), (nxt, nsrc) in zip(lines[:-1], lines[1:], strict=True):
+    for (line, _), (nxt, nsrc) in itertools.pairwise(lines):
         xc = _crossing(nxt, nsrc)
         kx.append(xc)
         ky.append(line[2] + line[1] * (xc - line[0]))

@@ -206,7 +206,7 @@ def test_knot_budget_on_large_samples_of_any_shape(kind):
 @pytest.mark.parametrize(
     ("kwargs", "match"),
     [
-        ({"interpolation": "cubic"}, "interpolation must be 'linear' or 'pchip'"),
+        ({"interpolation": "cubic"}, "interpolation must be one of 'linear', 'pchip'"),
         ({"level": 1.0}, "level must lie strictly between 0 and 1"),
         ({"max_knots": 1}, "max_knots must be an integer ≥ 2"),
         ({"max_knots": 2.5}, "max_knots must be an integer ≥ 2"),
