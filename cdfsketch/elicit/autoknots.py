@@ -49,26 +49,26 @@ later has a defined tail.
 
 Large samples
 -------------
-With more than ``DECIMATE_ABOVE`` (200 000) distinct values the knots are found
-on the decimated outline ``D`` of :meth:`ECDF.steps
+With more than ``DECIMATE_ABOVE`` (200 000) distinct values the knots are
+found on the decimated outline ``D`` of :meth:`ECDF.steps
 <cdfsketch.empirical.ECDF.steps>` instead of at every data value, with the
 tolerance ``tol = ε/16`` (``DECIMATE_FRACTION``). ``D`` is the ECDF's
-staircase with jumps at the kept points only, so ``D ≤ F_n`` everywhere,
-and ``δ = sup (F_n - D) < tol`` is known exactly (``StepOutline.max_error``). The knots are fitted inside the
-narrowed band ``[max(D - (ε - δ), 0), min(D + ε, 1)]``, which lies inside the
-exact band: ``D - ε + δ ≥ F_n - ε`` (as ``F_n - D ≤ δ``) and ``D + ε ≤ F_n + ε``
-(as ``D ≤ F_n``), and clipping to ``[0, 1]`` costs a non-decreasing ``G`` with
-values in ``[0, 1]`` nothing. ``D`` is a right-continuous step function, so the
-rules above, applied at its jumps with its own left values, are exact for it;
-the sketch is checked there exactly, and its excursion from the narrowed band
-is an upper bound on the excursion from the exact band (stored as
-``max_excursion``, ≤ 0, with ``outline_tolerance = δ``; ``δ = 0`` when every
-data value was used). The price is a band narrower by ``δ < ε/16`` on its
-lower side, so a knot or two more than the exact minimum at most in practice (the
-minimum is exact for the narrowed band); a tie heavy enough to
-force an atom is found as before (a jump of ``D`` may also gather several jumps
-of ``F_n`` closer than ``tol``). With ``n = 10⁷`` this fits on about ``10⁵``
-points instead of ``10⁷``.
+staircase with jumps at the kept points only, so ``D ≤ F_n`` everywhere, and
+``δ = sup (F_n - D) < tol`` is known exactly (``StepOutline.max_error``). The
+knots are fitted inside the narrowed band ``[max(D - (ε - δ), 0), min(D + ε,
+1)]``, which lies inside the exact band: ``D - ε + δ ≥ F_n - ε`` (as ``F_n - D
+≤ δ``) and ``D + ε ≤ F_n + ε`` (as ``D ≤ F_n``), and clipping to ``[0, 1]``
+costs a non-decreasing ``G`` with values in ``[0, 1]`` nothing. ``D`` is a
+right-continuous step function, so the rules above, applied at its jumps with
+its own left values, are exact for it; the sketch is checked there exactly,
+and its excursion from the narrowed band is an upper bound on the excursion
+from the exact band (stored as ``max_excursion``, ≤ 0, with
+``outline_tolerance = δ``; ``δ = 0`` when every data value was used). The
+price is a band narrower by ``δ < ε/16`` on its lower side, so a knot or two
+more than the exact minimum at most in practice (the minimum is exact for the
+narrowed band); a tie heavy enough to force an atom is found as before (a jump
+of ``D`` may also gather several jumps of ``F_n`` closer than ``tol``). With
+``n = 10⁷`` this fits on about ``10⁵`` points instead of ``10⁷``.
 
 ``interpolation="pchip"``: the monotone cubic through the same knots can
 bulge outside the band between knots. The sketch is checked exactly (the
