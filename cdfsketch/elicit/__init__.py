@@ -14,6 +14,7 @@ function                  what it builds                                   needs
 :func:`reknot`            the one "target distribution → knots" function   numpy
 :func:`pool`              linear opinion pool, quantile averaging          numpy
 :func:`from_data`         fewest knots inside the data's DKW band          numpy
+:func:`from_ecdf`         the same from an ECDF already built              numpy
 ========================  ===============================================  ============
 
 Examples
@@ -24,7 +25,7 @@ Examples
 """
 
 from .._validate import JudgementError
-from .autoknots import from_data
+from .autoknots import from_data, from_ecdf
 from .pooling import pool
 from .quantiles import from_quantiles
 from .reknot import from_distribution, reknot
@@ -34,6 +35,7 @@ __all__ = [
     "JudgementError",
     "from_data",
     "from_distribution",
+    "from_ecdf",
     "from_quantiles",
     "from_three_points",
     "pool",

@@ -115,7 +115,7 @@ from ..tails import Tail
 from ._common import clean_knots
 from .minlink import fewest_links
 
-__all__ = ["from_data"]
+__all__ = ["from_data", "from_ecdf"]
 
 #: Windows are narrowed by this much in p so that rounding in the sketch's
 #: cdf cannot push it outside the band.
@@ -337,9 +337,43 @@ def from_data(
     )  # fmt: skip
 
 
+def from_ecdf(
+    ecdf: ECDF,
+    *,
+    fingerprint: dict[str, Any] | None = None,
+    level: float = 0.95,
+    interpolation: Literal["linear", "pchip"] = "linear",
+    max_knots: int | None = None,
+    lower_tail: Tail | None = None,
+    upper_tail: Tail | None = None,
+    name: str = "",
+    units: str = "",
+) -> Sketch:
+    """:func:`from_data` on an ECDF already built (the editor builds one for all its uses).
+
+    Same options and result as :func:`from_data`; ``fingerprint`` (from
+    :func:`cdfsketch.data_fingerprint` of the raw data) goes into the
+    provenance when given. The ECDF must be of uncensored data.
+
+    Examples
+    --------
+    >>> e = ECDF(np.random.default_rng(0).uniform(0, 10, 500))
+    >>> len(from_ecdf(e)), len(from_ecdf(e, max_knots=2))
+    (3, 2)
+    """
+    if not isinstance(ecdf, ECDF):
+        raise TypeError(f"ecdf must be a cdfsketch ECDF; got {type(ecdf).__name__}.")
+    choice(interpolation, field="interpolation", options=("linear", "pchip"))
+    budget = None if max_knots is None else integer(max_knots, field="max_knots", low=2)
+    return _from_ecdf(
+        ecdf, fingerprint, level=level, interpolation=interpolation, budget=budget,
+        lower_tail=lower_tail, upper_tail=upper_tail, name=name, units=units,
+    )  # fmt: skip
+
+
 def _from_ecdf(
     ecdf: ECDF,
-    fingerprint: dict[str, Any],
+    fingerprint: dict[str, Any] | None,
     *,
     level: float,
     interpolation: str,
@@ -394,9 +428,13 @@ def _from_ecdf(
         sketch = build(kx, kp, interpolation)
         worst, over = _violations(xs, sketch, lo0, hi0)
 
-    provenance = {
-        "method": f"automatic knots inside the {level * 100:g}% DKW band",
-        "data": fingerprint,
+    method = (
+        f"automatic knots inside the {level * 100:g}% DKW band"
+        if widening == 0
+        else f"automatic knots, at most {budget}, near the {level * 100:g}% DKW band"
+    )
+    provenance: dict[str, Any] = {
+        "method": method,
         "extra": {
             "level": float(level),
             "eps": float(band.eps),
@@ -409,4 +447,6 @@ def _from_ecdf(
             "widening": float(widening),
         },
     }
+    if fingerprint is not None:
+        provenance["data"] = fingerprint
     return sketch.replace(provenance=provenance)

@@ -344,3 +344,18 @@ def test_from_data_is_minimal_on_small_samples(seed):
     if lo[0] > 0 or hi[-1] < 1 or np.any(lo > hi):
         pytest.skip("the band forces an atom here")
     assert len(s) - 1 == brute_min_links(e.x, lo, hi, (0.0, 0.0), (1.0, 1.0), max_links=7)
+
+
+def test_from_ecdf_is_from_data_on_a_built_ecdf():
+    from cdfsketch.elicit import from_ecdf
+
+    data = _mixture(1500, np.random.default_rng(8))
+    fp = data_fingerprint(data)
+    for k in (None, 4):
+        a = from_data(data, max_knots=k)
+        b = from_ecdf(ECDF(data), fingerprint=fp, max_knots=k)
+        assert np.array_equal(a.x, b.x) and np.array_equal(a.p, b.p)
+        assert a.provenance == b.provenance
+    assert "data" not in from_ecdf(ECDF(data)).provenance
+    with pytest.raises(TypeError, match="must be a cdfsketch ECDF"):
+        from_ecdf(data)
