@@ -13,6 +13,7 @@ from cdfsketch.elicit import (
     from_distribution,
     from_quantiles,
     from_three_points,
+    reknot,
 )
 from cdfsketch.summary import SketchSummary, summary
 
@@ -365,3 +366,63 @@ def test_summary_atoms_and_bad_probabilities():
         summary(Sketch([0, 1], [0, 1]), probabilities=(0.5, 1.0))
     with pytest.raises(TypeError, match="needs a Sketch"):
         summary([0, 1])
+
+
+# ---------------------------------------------------------------- reknot: target → knots
+
+REKNOT_TARGETS = [
+    stats.norm(10, 2),
+    stats.gamma(2.0, scale=3.0),
+    stats.lognorm(0.9, scale=5.0),
+    stats.beta(0.8, 3.0, loc=1.0, scale=4.0),  # unbounded density at the lower end
+    stats.weibull_min(1.5, scale=2.0),
+    stats.t(4, loc=1.0),
+]
+
+
+@pytest.mark.parametrize("dist", REKNOT_TARGETS, ids=lambda d: d.dist.name)
+@pytest.mark.parametrize("interpolation", ["linear", "pchip"])
+@pytest.mark.parametrize("tol", [1e-3, 1e-4])
+def test_reknot_accuracy_contract_against_scipy(dist, interpolation, tol):
+    # the stated contract: |F_sketch − F_dist| ≤ tolerance on the knots' range and at most the
+    # tail mass beyond the outer knots; checked here on an independent dense grid against the
+    # scipy distribution's own cdf
+    s = reknot(dist, interpolation=interpolation, tolerance=tol)
+    extra = s.provenance["extra"]
+    assert extra["max_abs_cdf_error"] <= tol
+    lo_mass, hi_mass = extra["tail_mass"]
+    inner = np.linspace(s.x[0], s.x[-1], 200_001)
+    assert np.max(np.abs(s.cdf(inner) - dist.cdf(inner))) <= tol * 1.05  # between grid points
+    far = np.r_[
+        np.linspace(dist.ppf(1e-9), s.x[0], 2001), np.linspace(s.x[-1], dist.ppf(1 - 1e-9), 2001)
+    ]
+    assert np.max(np.abs(s.cdf(far) - dist.cdf(far))) <= max(lo_mass, hi_mass, tol) + 1e-12
+    assert s.provenance["method"] == "re-knotted from a distribution"
+
+
+def test_reknot_takes_any_model_with_cdf_and_ppf_and_keeps_its_atoms():
+    # a sketch with a point mass, passed as a plain model: knots reproduce the jump exactly
+    target = Sketch([0.0, 2.0, 2.0, 5.0], [0.0, 0.3, 0.6, 1.0], interpolation="linear")
+    s = reknot(target, interpolation="linear", tolerance=1e-6)
+    assert [(a.x, round(a.mass, 12)) for a in s.atoms] == [(2.0, 0.3)]
+    grid = np.linspace(-1, 6, 7001)
+    assert np.max(np.abs(s.cdf(grid) - target.cdf(grid))) <= 1e-6
+
+    class Uniform:  # duck-typed: a support tuple, no pdf, no atoms
+        support = (1.0, 3.0)
+
+        def cdf(self, x):
+            return np.clip((np.asarray(x, float) - 1.0) / 2.0, 0.0, 1.0)
+
+        def ppf(self, u):
+            return 1.0 + 2.0 * np.asarray(u, float)
+
+    u = reknot(Uniform(), interpolation="linear")
+    assert u.x.tolist()[0] == 1.0 and u.x.tolist()[-1] == 3.0 and u.tail_mass == (0.0, 0.0)
+
+
+def test_reknot_bad_model():
+    with pytest.raises(TypeError, match="model must have callable ppf and cdf"):
+        reknot(object())
+    with pytest.raises(ValueError, match="tail_mass must be a finite number in"):
+        reknot(stats.norm(), tail_mass=0.7)
