@@ -88,8 +88,10 @@ possible: the smallest widening ``w`` of the band (``[L − w, U + w]``
 clipped to ``[0, 1]``) inside which ``k`` knots suffice. The minimum knot
 count is non-increasing in ``w`` and is computed exactly for each trial
 ``w`` (the method above), so ``w`` is found by bisection on a log scale
-between ``ε/64`` and 1 (two knots always suffice); if ``k`` knots fit at
-``ε/64``, the band itself (``w = 0``, the exact minimum) is tried first. Each
+between ``ε/64`` and 1 (two knots always suffice): first halving down from 1
+(coarse, cheap trials) to the first misfit, then bisecting; once the halving
+goes below ``ε``, the band itself (``w = 0``, the exact minimum) is tried
+first. Each
 trial works on the decimated outline with tolerance ``max(w/4, ε/16)``
 (``BUDGET_OUTLINE``), whose corridor lies inside the band widened by ``w``
 and, for ``w ≥ ε/4``, contains it widened by ``3w/4``; the bisection stops at
@@ -216,6 +218,14 @@ def _windows(
     return ecdf.x, lo, hi, 0.0
 
 
+def _band_windows(ecdf: ECDF, band: Band) -> tuple[np.ndarray, np.ndarray, np.ndarray, float]:
+    """The windows the unbudgeted path uses: exact up to ``DECIMATE_ABOVE`` jump points."""
+    if ecdf.x.size <= DECIMATE_ABOVE:
+        lo, hi = band.windows()
+        return ecdf.x, lo, hi, 0.0
+    return _outline_windows(ecdf, band, band.eps * DECIMATE_FRACTION)
+
+
 def _narrowed(lo0: np.ndarray, hi0: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
     wide = (hi0 - lo0) > 4 * MARGIN
     lo = np.where(wide, lo0 + MARGIN, lo0)
@@ -239,29 +249,39 @@ def _budget_knots(
 
     def trial(w: float) -> Any:
         if w not in cache:
-            xs, lo0, hi0, delta = _windows(
-                ecdf,
-                band,
-                eps * DECIMATE_FRACTION
-                if w == 0
-                else max(w * BUDGET_OUTLINE, eps * DECIMATE_FRACTION),
-            )
+            if w == 0:
+                xs, lo0, hi0, delta = _band_windows(ecdf, band)
+            else:
+                tol = max(w * BUDGET_OUTLINE, eps * DECIMATE_FRACTION)
+                xs, lo0, hi0, delta = _windows(ecdf, band, tol)
             lo, hi = _widened(lo0, hi0, w)
             cache[w] = (_linear_knots(xs, lo, hi, max_knots=budget), xs, lo0, hi0, delta)
         return cache[w]
 
-    if trial(w_lo)[0] is not None:
-        if trial(0.0)[0] is not None:
-            w_hi = 0.0
+    # halve down from w = 1 (cheap: coarse outlines) until k knots no longer fit; once
+    # below ε, the band itself (the exact minimum) is tried first
+    tried_band = False
+    while True:
+        w = w_hi / 2.0
+        if w < eps and not tried_band:
+            tried_band = True
+            if trial(0.0)[0] is not None:
+                w_hi = w_lo = 0.0
+                break
+        if w < w_lo:
+            w_lo = w_hi  # they fit all the way down to the floor
+            break
+        if trial(w)[0] is None:
+            w_lo = w
+            break
+        w_hi = w
+    # ... then bisect (geometrically) between the last misfit and the last fit
+    while w_hi > w_lo * (1.0 + BUDGET_PRECISION):
+        mid = math.sqrt(w_hi * w_lo)
+        if trial(mid)[0] is not None:
+            w_hi = mid
         else:
-            w_hi = w_lo
-    else:
-        while w_hi / w_lo > 1.0 + BUDGET_PRECISION:
-            mid = math.sqrt(w_hi * w_lo)
-            if trial(mid)[0] is not None:
-                w_hi = mid
-            else:
-                w_lo = mid
+            w_lo = mid
     knots, xs, lo0, hi0, delta = trial(w_hi)
     assert knots is not None
     return knots[0], knots[1], xs, lo0, hi0, delta, w_hi
@@ -390,9 +410,7 @@ def _from_ecdf(
     band = ecdf.band(level=level)
     widening = 0.0
     if budget is None:
-        xs, lo0, hi0, delta = _windows(ecdf, band, band.eps * DECIMATE_FRACTION)
-        if ecdf.x.size <= DECIMATE_ABOVE:
-            xs, lo0, hi0, delta = ecdf.x, *band.windows(), 0.0
+        xs, lo0, hi0, delta = _band_windows(ecdf, band)
         lo, hi = _narrowed(lo0, hi0)
         lin_x, lin_p = _linear_knots(xs, lo, hi)  # type: ignore[misc]
     else:
