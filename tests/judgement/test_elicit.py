@@ -13,6 +13,7 @@ from cdfsketch.elicit import (
     from_distribution,
     from_quantiles,
     from_three_points,
+    reknot,
 )
 from cdfsketch.summary import SketchSummary, summary
 
@@ -57,8 +58,8 @@ def test_from_quantiles_bounds_and_tails():
     assert isinstance(d.lower_tail, ExponentialTail)
 
 
-def test_from_quantiles_via_sketch_classmethod_and_spec_round_trip():
-    s = Sketch.from_quantiles(
+def test_from_quantiles_spec_round_trip():
+    s = from_quantiles(
         {0.05: 12, 0.5: 20, 0.95: 41}, name="cost", units="k$", author="A", rationale="why"
     )
     back = cdfsketch.load(s.to_json())
@@ -87,8 +88,8 @@ def test_from_quantiles_via_sketch_classmethod_and_spec_round_trip():
         ({0.5: 20}, {}, r"One statement .* add a bound"),
         ({}, {}, r"q is empty"),
         ({0.1: 1, 0.9: 2}, {"lower": 0, "lower_tail": BoundedTail(-1.0)}, r"not both"),
-        ({0.1: "a", 0.9: 2}, {}, r"value of statement 0 .* must be a number"),
-        ({0.1: float("inf"), 0.9: 2}, {}, r"must be finite"),
+        ({0.1: "a", 0.9: 2}, {}, r"value of statement 0 .* must be a finite number; got 'a'"),
+        ({0.1: float("inf"), 0.9: 2}, {}, r"must be a finite number; got inf"),
         (42, {}, r"q must map probabilities to values"),
     ],
 )
@@ -100,7 +101,7 @@ def test_from_quantiles_bad_inputs(q, options, match):
 def test_from_quantiles_other_bad_options():
     with pytest.raises(ValueError, match="interpolation must be one of"):
         from_quantiles({0.1: 1, 0.9: 2}, interpolation="cubic")
-    with pytest.raises(TypeError, match="name must be a str"):
+    with pytest.raises(ValueError, match="name must be a str"):
         from_quantiles({0.1: 1, 0.9: 2}, name=3)
     with pytest.raises(TypeError, match=r"positional"):
         from_quantiles({0.1: 1, 0.9: 2}, "linear")
@@ -129,6 +130,31 @@ def test_pert_mean_and_variance(a, m, b):
     assert np.max(np.abs(s.cdf(grid) - ref.cdf(grid))) <= 1e-5 * 1.2
     assert s.provenance["extra"]["max_abs_cdf_error"] <= 1e-5
     assert s.support == (a, b)
+
+
+PERT_CASES = [*TRIPLES, (0.0, 1.0, 100.0), (5.0, 99.0, 100.0), (1e3, 1.2e3, 5e3)]
+
+
+@pytest.mark.parametrize(("a", "m", "b"), PERT_CASES)
+@pytest.mark.parametrize("interpolation", ["linear", "pchip"])
+@pytest.mark.parametrize("coverage", [1.0, 0.9])
+def test_pert_summary_states_the_pert_moments_at_the_default_tolerance(
+    a, m, b, interpolation, coverage
+):
+    # issue: at the default |ΔF| tolerance the variance was 0.27-1.4 % high; the summary of a
+    # PERT sketch must state the PERT moments to within 0.1 %. Reference:
+    # scipy.stats.beta(α, β, loc=a, scale=b−a).mean()/.var() on the ends the sketch was built on
+    s = from_three_points(a, m, b, shape="pert", interpolation=interpolation, coverage=coverage)
+    lo, hi = s.provenance["extra"]["ends"]
+    ref = stats.beta(1 + 4 * (m - lo) / (hi - lo), 1 + 4 * (hi - m) / (hi - lo), loc=lo,
+                     scale=hi - lo)  # fmt: skip
+    shown = summary(s)
+    assert abs(shown.mean - ref.mean()) <= 1e-3 * ref.std()
+    assert shown.sd**2 == pytest.approx(ref.var(), rel=1e-3)
+    moments = s.provenance["extra"]["moments"]
+    assert moments["mean"] == pytest.approx(ref.mean(), rel=1e-12)
+    assert moments["variance"] == pytest.approx(ref.var(), rel=1e-12)
+    assert s.provenance["extra"]["max_moment_error"] <= 5e-4
 
 
 @pytest.mark.parametrize(("a", "c", "b"), TRIPLES)
@@ -190,10 +216,10 @@ def test_three_points_summary_warns_about_solved_tails():
         ((1, 7, 5), {}, r"mode must lie between low and high; got low=1, mode=7, high=5"),
         ((1, 2, 5), {"coverage": 0}, r"coverage must lie in \(0, 1\]"),
         ((1, 2, 5), {"coverage": 1.5}, r"coverage must lie in \(0, 1\]"),
-        ((1, 2, 5), {"shape": "normal"}, r"shape must be one of \('pert', 'triangular'\)"),
+        ((1, 2, 5), {"shape": "normal"}, "shape must be one of 'pert', 'triangular'"),
         ((1, 2, 5), {"knots": 2}, r"knots must be an integer ≥ 3"),
-        ((1, 2, 5), {"tolerance": 0}, r"tolerance must lie in \(0, 0.5\)"),
-        ((1, float("nan"), 5), {}, r"mode must be finite"),
+        ((1, 2, 5), {"tolerance": 0}, r"tolerance must be a finite number in \(0, 0.5\); got 0.0"),
+        ((1, float("nan"), 5), {}, r"mode must be a finite number; got nan"),
     ],
 )
 def test_three_points_bad_inputs(args, options, match):
@@ -257,9 +283,11 @@ def test_from_distribution_bad_inputs():
         from_distribution(object())
     with pytest.raises(ValueError, match="knots must be an integer ≥ 3; got 2"):
         from_distribution(stats.norm(), knots=2)
-    with pytest.raises(ValueError, match=r"tail must be one of \('exponential', 'bounded'\)"):
+    with pytest.raises(ValueError, match="tail must be one of 'exponential', 'bounded'"):
         from_distribution(stats.norm(), tail="gpd")
-    with pytest.raises(ValueError, match=r"tolerance must lie in \(0, 0.5\) .*got -0.1"):
+    with pytest.raises(
+        ValueError, match=r"tolerance must be a finite number in \(0, 0.5\); got -0.1"
+    ):
         from_distribution(stats.norm(), tolerance=-0.1)
     with pytest.raises(ValueError, match=r"must return finite values .*got array\(\[nan"):
         from_distribution(stats.uniform(3, 0))  # scipy gives NaN for a zero scale
@@ -271,7 +299,9 @@ def test_from_distribution_bad_inputs():
         def cdf(self, x):
             return (np.asarray(x) >= 3.0).astype(float)
 
-    with pytest.raises(ValueError, match=r"no spread: ppf\(0.25\) = ppf\(0.75\) = 3.0"):
+    with pytest.raises(
+        ValueError, match=r"must have some spread; got ppf\(0.25\) = ppf\(0.75\) = 3.0"
+    ):
         from_distribution(PointMass())
 
 
@@ -336,3 +366,63 @@ def test_summary_atoms_and_bad_probabilities():
         summary(Sketch([0, 1], [0, 1]), probabilities=(0.5, 1.0))
     with pytest.raises(TypeError, match="needs a Sketch"):
         summary([0, 1])
+
+
+# ---------------------------------------------------------------- reknot: target → knots
+
+REKNOT_TARGETS = [
+    stats.norm(10, 2),
+    stats.gamma(2.0, scale=3.0),
+    stats.lognorm(0.9, scale=5.0),
+    stats.beta(0.8, 3.0, loc=1.0, scale=4.0),  # unbounded density at the lower end
+    stats.weibull_min(1.5, scale=2.0),
+    stats.t(4, loc=1.0),
+]
+
+
+@pytest.mark.parametrize("dist", REKNOT_TARGETS, ids=lambda d: d.dist.name)
+@pytest.mark.parametrize("interpolation", ["linear", "pchip"])
+@pytest.mark.parametrize("tol", [1e-3, 1e-4])
+def test_reknot_accuracy_contract_against_scipy(dist, interpolation, tol):
+    # the stated contract: |F_sketch − F_dist| ≤ tolerance on the knots' range and at most the
+    # tail mass beyond the outer knots; checked here on an independent dense grid against the
+    # scipy distribution's own cdf
+    s = reknot(dist, interpolation=interpolation, tolerance=tol)
+    extra = s.provenance["extra"]
+    assert extra["max_abs_cdf_error"] <= tol
+    lo_mass, hi_mass = extra["tail_mass"]
+    inner = np.linspace(s.x[0], s.x[-1], 200_001)
+    assert np.max(np.abs(s.cdf(inner) - dist.cdf(inner))) <= tol * 1.05  # between grid points
+    far = np.r_[
+        np.linspace(dist.ppf(1e-9), s.x[0], 2001), np.linspace(s.x[-1], dist.ppf(1 - 1e-9), 2001)
+    ]
+    assert np.max(np.abs(s.cdf(far) - dist.cdf(far))) <= max(lo_mass, hi_mass, tol) + 1e-12
+    assert s.provenance["method"] == "re-knotted from a distribution"
+
+
+def test_reknot_takes_any_model_with_cdf_and_ppf_and_keeps_its_atoms():
+    # a sketch with a point mass, passed as a plain model: knots reproduce the jump exactly
+    target = Sketch([0.0, 2.0, 2.0, 5.0], [0.0, 0.3, 0.6, 1.0], interpolation="linear")
+    s = reknot(target, interpolation="linear", tolerance=1e-6)
+    assert [(a.x, round(a.mass, 12)) for a in s.atoms] == [(2.0, 0.3)]
+    grid = np.linspace(-1, 6, 7001)
+    assert np.max(np.abs(s.cdf(grid) - target.cdf(grid))) <= 1e-6
+
+    class Uniform:  # duck-typed: a support tuple, no pdf, no atoms
+        support = (1.0, 3.0)
+
+        def cdf(self, x):
+            return np.clip((np.asarray(x, float) - 1.0) / 2.0, 0.0, 1.0)
+
+        def ppf(self, u):
+            return 1.0 + 2.0 * np.asarray(u, float)
+
+    u = reknot(Uniform(), interpolation="linear")
+    assert u.x.tolist()[0] == 1.0 and u.x.tolist()[-1] == 3.0 and u.tail_mass == (0.0, 0.0)
+
+
+def test_reknot_bad_model():
+    with pytest.raises(TypeError, match="model must have callable ppf and cdf"):
+        reknot(object())
+    with pytest.raises(ValueError, match="tail_mass must be a finite number in"):
+        reknot(stats.norm(), tail_mass=0.7)
