@@ -42,7 +42,9 @@ class _Model:
         self._obj = obj
         if isinstance(obj, ECDF):
             x, p = np.asarray(obj.x, float), np.asarray(obj.p, float)
-            self.atoms = tuple(Atom(float(a), float(m)) for a, m in zip(x, np.diff(p, prepend=0.0), strict=True))
+            self.atoms = tuple(
+                Atom(float(a), float(m)) for a, m in zip(x, np.diff(p, prepend=0.0), strict=True)
+            )
             self.breakpoints = x
         else:
             self.atoms = tuple(getattr(obj, "atoms", ()))
@@ -110,9 +112,7 @@ def _sketch_form(obj: Any, model: _Model, units: str) -> tuple[Sketch, str]:
 
     The ONE place where a distribution becomes knots for the review.
     """
-    sk = obj.to_sketch(
-        knots=FIT_KNOTS, interpolation="pchip", tail_mass=FIT_TAIL_MASS, units=units
-    )
+    sk = obj.to_sketch(knots=FIT_KNOTS, interpolation="pchip", tail_mass=FIT_TAIL_MASS, units=units)
     lo, hi = (float(v) for v in model.ppf(np.array([1e-5, 1 - 1e-5])))
     grid = np.linspace(lo, hi, 4001)
     err = float(np.max(np.abs(model.cdf(grid) - sk.cdf(grid))))
@@ -240,4 +240,3 @@ def check_unique(candidates: tuple[ReviewCandidate, ...]) -> None:
                 found=c.name,
             )
         seen[c.name] = i
-

@@ -17,7 +17,7 @@ from .._files import check_output_path, write_bytes
 from .._validate import number
 from .._version import __version__
 from . import palette
-from .layers import curves, data_layers, density_top, floor_flags, x_range
+from .layers import curves, data_layers, density_top, flags_text, floor_flags, x_range
 from .record import Review
 from .texts import CAUTION
 
@@ -106,7 +106,7 @@ def save_figure(
     if review.chosen is not None:
         title += f" — chosen: {review.chosen}"
     up.set_title(title)
-    notes = [CAUTION, *(f.text for f in floor_flags(review))]
+    notes = [CAUTION, flags_text(floor_flags(review))]
     fig.supxlabel("\n".join(notes), fontsize=6.5, color="#444444")
     buf = io.BytesIO()
     fig.savefig(buf, format=suffix[1:], dpi=dpi, metadata=_metadata(suffix))

@@ -24,6 +24,7 @@ __all__ = [
     "curves",
     "data_layers",
     "density_top",
+    "flags_text",
     "floor_flags",
     "histogram",
     "histogram_bins",
@@ -180,15 +181,26 @@ class FloorFlag:
     limit: float
     mass: float
 
-    @property
-    def text(self) -> str:
-        """The flag in words."""
-        from .._numfmt import significant
 
-        where = "below" if self.side == "below" else "above"
-        return f"{self.name}: {significant(100 * self.mass, 3)} % of its mass lies {where} " + (
-            f"{significant(self.limit)}, where the data never go"
-        )
+def flags_text(flags: list[FloorFlag]) -> str:
+    """All flags in one sentence per limit (what the board, the page and the figure show).
+
+    Examples
+    --------
+    >>> flags = [FloorFlag("normal", "below", 0.0, 0.0696), FloorFlag("kde", "below", 0.0, 0.02)]
+    >>> flags_text(flags)
+    'Mass below 0, where the data never go: normal 6.96 %, kde 2 %.'
+    """
+    from .._numfmt import significant
+
+    parts = []
+    for side in ("below", "above"):
+        mine = [f for f in flags if f.side == side]
+        if mine:
+            items = ", ".join(f"{f.name} {significant(100 * f.mass, 3)} %" for f in mine)
+            where = f"{side} {significant(mine[0].limit)}"
+            parts.append(f"Mass {where}, where the data never go: {items}.")
+    return " ".join(parts)
 
 
 def floor_flags(review: Any) -> list[FloorFlag]:

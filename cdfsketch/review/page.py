@@ -29,7 +29,7 @@ from .._frozen import thaw
 from .._validate import fail, quote
 from .._version import __version__
 from ._assets import read_asset
-from .layers import data_layers, floor_flags, x_range
+from .layers import data_layers, flags_text, floor_flags, x_range
 from .palette import DASH_ARRAY
 from .record import Review
 from .table import presentation
@@ -103,7 +103,7 @@ def page_payload(review: Review, *, include_data: bool = False) -> dict[str, Any
         "xRange": [lo, hi],
         "data": _data_block(review, include_data),
         "candidates": cands,
-        "flags": [f.text for f in floor_flags(review)],
+        "flags": flags_text(floor_flags(review)),
         "table": presentation(review),
         "decision": None if review.decision is None else thaw(review.decision),
         "chosenSpec": review.chosen_spec() if review.decision is not None else None,

@@ -301,4 +301,3 @@ def _utc_stamp(when: str | datetime | None) -> str:
             value=when,
         )
     return stamp.astimezone(UTC).isoformat(timespec="seconds")
-

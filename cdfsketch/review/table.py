@@ -201,7 +201,7 @@ def table_html(pres: dict[str, Any], *, sort_by: str | None = None, ascending: b
         unit = f" ({html.escape(col['unit'])})" if col["unit"] else ""
         head.append(
             f'<th title="{html.escape(col["help"])}" style="text-align:left">'
-            f"{html.escape(col['label'])}{unit}<br><small style=\"font-weight:normal;"
+            f'{html.escape(col["label"])}{unit}<br><small style="font-weight:normal;'
             f'color:#555">{html.escape(col["direction"])}</small></th>'
         )
     body = []

@@ -32,7 +32,7 @@ from .._numfmt import significant
 from .._validate import InputError, fail, quote
 from ..review import palette
 from ..review.figures import save_figure
-from ..review.layers import curves, data_layers, density_top, floor_flags, x_range
+from ..review.layers import curves, data_layers, density_top, flags_text, floor_flags, x_range
 from ..review.page import save_html
 from ..review.record import Review
 from ..review.table import QUESTIONS, presentation, table_html
@@ -213,16 +213,16 @@ class ReviewBoard(widgets.VBox):
         self.cdf_figure = bqplot.Figure(
             marks=upper,
             axes=[bqplot.Axis(scale=self.x_scale, label=label, **ticks),
-                  bqplot.Axis(scale=y_cdf, orientation="vertical", label="cumulative probability",
+                  bqplot.Axis(scale=y_cdf, side="left", label="cumulative probability",
                               num_ticks=5)],
             fig_margin=_MARGIN, layout={"width": "100%", "height": "330px"},
         )  # fmt: skip
         dens = f"density (per {r.units})" if r.units else "density"
         lower_axes = [bqplot.Axis(scale=self.x_scale, label=label, **ticks),
-                      bqplot.Axis(scale=y_pdf, orientation="vertical", label=dens, num_ticks=4,
+                      bqplot.Axis(scale=y_pdf, side="left", label=dens, num_ticks=4,
                                   tick_format=".3~g")]  # fmt: skip
         if masses:
-            lower_axes.append(bqplot.Axis(scale=y_mass, orientation="vertical", side="right",
+            lower_axes.append(bqplot.Axis(scale=y_mass, side="right",
                                           label="atom mass", num_ticks=3))  # fmt: skip
         self.pdf_figure = bqplot.Figure(
             marks=lower, axes=lower_axes, fig_margin=_MARGIN,
@@ -236,7 +236,6 @@ class ReviewBoard(widgets.VBox):
         self.toggles: dict[str, Any] = {}
         rows = [widgets.HTML("<b>Candidates</b> <small>(untick to hide)</small>")]
         for c in r.candidates:
-            st = r.style(c.name)
             box = widgets.Checkbox(value=True, indent=False, layout={"width": "22px"})
             box.observe(self._on_toggle, names="value")
             self.toggles[c.name] = box
@@ -258,13 +257,13 @@ class ReviewBoard(widgets.VBox):
         )
         self.readout.add_class("cdfsketch-review-readout")
         self.side = widgets.VBox(
-            [*rows, self.readout],
+            [self.readout, *rows],
             layout={"width": _SIDE_WIDTH, "flex": f"0 0 {_SIDE_WIDTH}", "padding": "0 0 0 8px"},
         )
         self.side.add_class("cdfsketch-review-side")
 
     def _build_table(self) -> None:
-        self.table_view = widgets.HTML(layout={"max_width": "100%", "overflow_x": "hidden"})
+        self.table_view = widgets.HTML(layout={"max_width": "100%", "overflow": "hidden"})
         self.table_view.add_class("cdfsketch-review-table")
         if self._pres is None:
             self.sort_column = None
@@ -444,13 +443,12 @@ class ReviewBoard(widgets.VBox):
                     marks[name].visible = box.value
 
     def _flags_html(self) -> str:
-        flags = floor_flags(self._review)
-        if not flags:
+        text = flags_text(floor_flags(self._review))
+        if not text:
             return ""
-        items = "".join(f"<li>{html.escape(f.text)}</li>" for f in flags)
         return (
-            f"<div style='color:{palette.KNOT_OUTSIDE_BAND};font-size:12.5px'>"
-            f"<b>Mass where the data never go:</b><ul style='margin:2px 0'>{items}</ul></div>"
+            f"<div style='color:#a33f00;border-left:4px solid {palette.KNOT_OUTSIDE_BAND};"
+            f"padding:1px 8px;font-size:12.5px'>{html.escape(text)}</div>"
         )
 
     def _show_table(self) -> None:

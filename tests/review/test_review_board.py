@@ -14,16 +14,17 @@ import pytest
 
 import cdfsketch
 from cdfsketch import Sketch, validate_spec
+from cdfsketch.elicit import from_quantiles
 from cdfsketch.empirical import ECDF
-from cdfsketch.report import FIT_KNOTS, Review
+from cdfsketch.review import FIT_KNOTS, Review
 
 HOSTILE = ["<img src=x onerror=alert(1)>", "</script><script>alert(1)</script>"]
 
 
 @pytest.fixture(scope="module")
 def experts() -> list[Sketch]:
-    a = Sketch.from_quantiles({0.1: 650, 0.5: 880, 0.9: 1150}, name="expert A", units="1e8 m3")
-    b = Sketch.from_quantiles(
+    a = from_quantiles({0.1: 650, 0.5: 880, 0.9: 1150}, name="expert A", units="1e8 m3")
+    b = from_quantiles(
         {0.05: 600, 0.5: 930, 0.95: 1250}, name=HOSTILE[0], units="1e8 m3", interpolation="pchip"
     )
     return [a, b]
@@ -47,8 +48,9 @@ def board(nile, experts, fits):
 def test_candidates_named_and_kinded(board) -> None:
     assert board.names == ("expert A", HOSTILE[0], "pool", "normal", "gamma", "resampled data")
     kinds = [c.kind for c in board.review.candidates]
-    assert kinds == ["sketch", "sketch", "pool", "fit", "fit", "data"]
-    # one CDF line per candidate, a PDF line per continuous one; legend labels are the names
+    assert kinds == ["sketch", "sketch", "sketch", "fit", "fit", "data"]
+    assert board.review.candidate("pool").note == "linear pool"  # the sketch's own method
+    # one CDF line per candidate, a PDF line per continuous one
     assert [line.labels[0] for line in board.cdf_lines.values()] == list(board.names)
     assert set(board.pdf_lines) == set(board.names) - {"resampled data"}
     assert set(board.spikes) == {"resampled data"}  # the only candidate with atoms
@@ -56,6 +58,37 @@ def test_candidates_named_and_kinded(board) -> None:
     assert all(m.scales["x"] is board.x_scale for m in board.pdf_figure.marks)
     assert all(m.scales["x"] is board.x_scale for m in board.cdf_figure.marks)
     assert "1e8 m3" in board.cdf_figure.axes[0].label
+    assert board.pdf_figure.axes[1].label == "density (per 1e8 m3)"
+
+
+def test_legend_is_outside_the_plots_and_styles_are_stable(board) -> None:
+    # no bqplot legend inside a plot: the toggles beside the plots are the legend
+    for fig in (board.cdf_figure, board.pdf_figure):
+        assert not any(getattr(m, "display_legend", False) for m in fig.marks)
+    assert board.side not in (board.cdf_figure, board.pdf_figure)
+    before = {n: (board.cdf_lines[n].colors, board.cdf_lines[n].line_style) for n in board.names}
+    board.choose("pool", by="g", rationale="r")
+    board.toggles["normal"].value = False
+    board.choose("gamma", by="g", rationale="r")
+    after = {n: (board.cdf_lines[n].colors, board.cdf_lines[n].line_style) for n in board.names}
+    assert after == before  # the chosen candidate is thicker, never recoloured
+    assert board.cdf_lines["gamma"].stroke_width > board.cdf_lines["pool"].stroke_width
+    styles = {(board.review.style(n).colour, board.review.style(n).dash) for n in board.names}
+    assert len(styles) == len(board.names)
+
+
+def test_flags_mass_below_zero_for_non_negative_data() -> None:
+    data = np.random.default_rng(5).gamma(2.0, 2.0, 200)  # invented, all > 0
+    ok = Sketch([0, 3, 20], [0, 0.5, 1], name="inside")
+    below = Sketch([-2, 3, 20], [0, 0.5, 1], name="below")
+    board = cdfsketch.ReviewBoard(data, [ok, below], units="h", holdout=None)
+    # linear between knots: F(0) = 0.5 · 2/5 = 20 %
+    assert "below 0, where the data never go: below 20 %" in board.flags_view.value
+    assert "inside" not in board.flags_view.value
+    unit = np.random.default_rng(6).beta(2, 5, 200)  # invented fractions in [0, 1]
+    over = Sketch([0, 0.3, 1.2], [0, 0.5, 1], name="over")
+    text = cdfsketch.ReviewBoard(unit, [over], holdout=None).flags_view.value
+    assert "above 1, where the data never go: over" in text
 
 
 def test_resampled_data_is_the_ecdf(nile, board) -> None:
@@ -92,29 +125,41 @@ def test_toggles_hide_marks_and_readout(board) -> None:
     board.toggles["gamma"].value = False
     assert board.cdf_lines["gamma"].visible is False
     assert board.pdf_lines["gamma"].visible is False
+    assert board.markers["gamma"].visible is False
     assert [r["name"] for r in board.readout_at(900.0)] == [n for n in board.names if n != "gamma"]
+    board.show_readout(900.0)
+    assert "gamma" not in board.readout.value  # only visible candidates are listed
     board.set_visible("resampled data", False)
     assert board.spikes["resampled data"].visible is False
     board.set_visible("gamma", True)
     assert board.cdf_lines["gamma"].visible is True
     with pytest.raises(KeyError, match="No candidate named 'nope'"):
         board.set_visible("nope", False)
-    with pytest.raises(TypeError, match="visible must be True or False"):
+    with pytest.raises(ValueError, match="visible must be True or False"):
         board.set_visible("gamma", 1)
 
 
 def test_hover_readout_values(nile, board) -> None:
-    # hovering is the IndexSelector's `selected`; the read-out shows F and f at that x
+    # hovering is the hover strip's bar under the pointer: no click, the bar's index gives x
     from scipy.stats import norm
 
-    board.selectors[0].selected = np.array([900.0])
+    from cdfsketch.widgets.review import HOVER_BARS
+
+    lo, hi = board.x_scale.min, board.x_scale.max
+    i = 100
+    board._on_hover(board.hover_strips[0], {"event": "hover", "data": {"index": i}})
+    x = lo + (hi - lo) * i / (HOVER_BARS - 1)
+    text = board.readout.value
+    assert f"x = {cdfsketch._numfmt.significant(x, 4)} 1e8 m3" in text
+    assert board.guides[0].x.tolist() == [x, x] and board.guides[1].visible
+    board.show_readout(900.0)
     text = board.readout.value
     assert "x = 900 1e8 m3" in text
     rows = {r["name"]: r for r in board.readout_at(900.0)}
     ref = norm(nile.mean(), nile.std())
     assert rows["normal"]["p"] == pytest.approx(ref.cdf(900.0), abs=1e-9)
     assert rows["normal"]["density"] == pytest.approx(ref.pdf(900.0), rel=1e-9)
-    assert f"{ref.cdf(900.0):.4f}" in text
+    assert f"{ref.cdf(900.0):.3f}" in text
     assert rows["resampled data"]["p"] == np.mean(nile <= 900.0)
     assert rows["resampled data"]["density"] is None
     # user text is escaped in the read-out
@@ -127,10 +172,10 @@ def test_choose_records_provenance(nile, board) -> None:
     when = datetime(2026, 3, 4, 9, 30, tzinfo=UTC)
     board.choose("gamma", by="review group", rationale=HOSTILE[1], when=when)
     assert board.chosen == "gamma"
-    # the chosen line is the sketch blue (palette.SKETCH) and thick, labelled as chosen
+    # the chosen line keeps its colour, is thick, and the legend says chosen
     line = board.cdf_lines["gamma"]
-    assert line.colors == ["#0072B2"] and line.stroke_width > 3
-    assert line.labels == ["gamma (chosen)"]
+    assert line.colors == [board.review.style("gamma").colour] and line.stroke_width > 3
+    assert "(chosen)" in board._legend_labels[board.names.index("gamma")].value
     assert board.cdf_lines["normal"].stroke_width < 3
     spec = board.chosen_spec()
     validate_spec(spec)
@@ -187,13 +232,16 @@ def test_record_button_uses_form(board) -> None:
     board.record.click()
     assert board.chosen is None
     assert "by must not be empty" in board.decision_view.value
+    board.decided_by.value = "x" * 501
+    board.record.click()
+    assert "by must be at most 500 characters" in board.decision_view.value
     board.decided_by.value = "the group"
     board.record.click()
     assert board.chosen == "normal"
 
 
-def _column(table_html: str, column: str) -> list[str]:
-    """The cells of one column of an HTML table, in order (stdlib html.parser)."""
+def _column(table_html: str, column: int) -> list[str]:
+    """The text of one column of an HTML table, in order (stdlib html.parser)."""
     from html.parser import HTMLParser
 
     rows: list[list[str]] = []
@@ -209,7 +257,7 @@ def _column(table_html: str, column: str) -> list[str]:
 
         def handle_endtag(self, tag):
             if tag in ("td", "th") and self.cell is not None:
-                rows[-1].append("".join(self.cell))
+                rows[-1].append("".join(self.cell).strip())
                 self.cell = None
 
         def handle_data(self, data):
@@ -217,23 +265,37 @@ def _column(table_html: str, column: str) -> list[str]:
                 self.cell.append(data)
 
     Cells().feed(table_html)
-    j = rows[0].index(column)
-    return [r[j] for r in rows[1:]]
+    return [r[column] for r in rows[1:]]
 
 
-def test_table_sort_control(board) -> None:
-    ks = sorted(r["ks"] for r in board.table().rows)
-    board.sort_column.value = "ks"
-    assert _column(board.table_view.value, "ks") == [f"{v:.6g}" for v in ks]
+def test_table_answers_the_review_questions(board) -> None:
+    from cdfsketch._numfmt import significant
+
+    html_ = board.table_view.value
+    labels = ("Distance to the data", "Error on held-out data (1e8 m3)", "Parameters",
+              "Chance above the largest value (%)", "lower is better")  # fmt: skip
+    for label in labels:
+        assert label in html_
+    raw = {r["name"]: r for r in board.table().rows}
+    ks = sorted(raw[n]["ks"] for n in board.names)
+    board.sort_column.value = "close"
+    assert _column(board.table_view.value, 1) == [significant(v, 3) for v in ks]
     board.sort_descending.value = True
-    assert _column(board.table_view.value, "ks") == [f"{v:.6g}" for v in ks[::-1]]
-    names = _column(board.table_view.value, "name")
-    assert HOSTILE[0] in names  # the parser unescapes: the text is the raw name
+    assert _column(board.table_view.value, 1) == [significant(v, 3) for v in ks[::-1]]
+    names = [c.split("\n")[0] for c in _column(board.table_view.value, 0)]
+    assert any(HOSTILE[0] in n for n in names)  # the parser unescapes: the text is the raw name
     assert HOSTILE[0] not in board.table_view.value  # ...and the markup holds it escaped
+    # the tail column: P(X > largest observation), in %; the raw scores stay in the table
+    gamma = board.review.candidate("gamma")
+    want = 100 * float(gamma.model.sf(board.review.data_range[1]))
+    row = next(r for r in board._pres["rows"] if r["name"] == "gamma")
+    assert row["cells"]["tail"]["text"] == significant(want, 3)
+    assert row["cells"]["params"]["text"] == "2"
+    assert {"ks", "crps_holdout", "ad", "cvm", "w1"} <= set(board.table().columns)
 
 
 def test_nothing_chosen_yet(board) -> None:
-    with pytest.raises(ValueError, match="Nothing has been chosen yet"):
+    with pytest.raises(ValueError, match="needs a decision; got nothing chosen yet"):
         board.chosen_spec()
 
 
@@ -241,7 +303,7 @@ def test_without_data() -> None:
     a = Sketch([0, 4, 10], [0, 0.5, 1], name="a")
     b = Sketch([0, 6, 12], [0, 0.5, 1], name="b")
     board = cdfsketch.ReviewBoard(candidates=[a, b])
-    with pytest.raises(ValueError, match="no data, so there is no comparison table"):
+    with pytest.raises(ValueError, match="a review without data, so there is no comparison table"):
         board.table()
     board.choose("b", by="x", rationale="y")
     spec = board.chosen_spec()
@@ -256,17 +318,17 @@ def test_bad_inputs_by_message(nile) -> None:
         ValueError, match=r"candidates\[1\] and candidates\[0\] are both called 'a'"
     ):
         Review(None, [a, a.replace(x=[0, 5, 10])])
-    with pytest.raises(ValueError, match=r"candidates\[0\] is a sketch without a name"):
+    with pytest.raises(ValueError, match=r"candidates\[0\] must have a name"):
         Review(None, [Sketch([0, 1], [0, 1])])
-    with pytest.raises(TypeError, match=r"candidates\[1\] must be a Sketch, a fit Candidate"):
+    with pytest.raises(ValueError, match=r"candidates\[1\] must be a Sketch, a fit Candidate"):
         Review(None, [a, "gamma"])
-    with pytest.raises(ValueError, match="candidates is empty"):
+    with pytest.raises(ValueError, match="candidates must hold at least one candidate"):
         Review(None, [])
-    with pytest.raises(TypeError, match="candidates must be a list"):
+    with pytest.raises(ValueError, match="candidates must be a list"):
         Review(None, "a")
-    with pytest.raises(ValueError, match="level must be a number strictly between 0 and 1"):
+    with pytest.raises(ValueError, match=r"level must be a finite number in \(0, 1\)"):
         Review(None, [a], level=1.5)
-    with pytest.raises(ValueError, match=r"is in units 'min' but the review is in 'h'"):
+    with pytest.raises(ValueError, match=r"must be in the review's units 'h'; got 'min'"):
         Review(None, [a.replace(units="min")], units="h")
     with pytest.raises(ValueError, match="two distinct values"):
         Review([1.0, 1.0], [a])
@@ -277,7 +339,59 @@ def test_bad_inputs_by_message(nile) -> None:
         r.choose("b", by="x", rationale="y")
     with pytest.raises(ValueError, match="rationale must not be empty"):
         r.choose("a", by="x", rationale="  ")
-    with pytest.raises(TypeError, match="by must be a str"):
+    with pytest.raises(ValueError, match="by must be a str"):
         r.choose("a", by=None, rationale="y")
     with pytest.raises(ValueError, match="when must be an ISO 8601 time"):
         r.choose("a", by="x", rationale="y", when="yesterday")
+
+
+class _Named:
+    """A stand-in candidate with any name (fit candidates take the family's name)."""
+
+    def __init__(self, name: str) -> None:
+        self.inner = Sketch([0, 4, 10], [0, 0.5, 1], name="stand-in")
+        self.name = name
+        self.support = self.inner.support
+
+    def cdf(self, x):
+        return self.inner.cdf(x)
+
+    def ppf(self, u):
+        return self.inner.ppf(u)
+
+
+def test_limits_checked_where_values_enter(tmp_path) -> None:
+    # issue 16: a value a review accepts can always be saved; limits from cdfsketch._limits
+    from cdfsketch._limits import MAX_NAME_CHARS, MAX_UNITS_CHARS
+    from cdfsketch.review import save_html
+
+    a = Sketch([0, 4, 10], [0, 0.5, 1], name="a")
+    with pytest.raises(ValueError, match=f"name must be at most {MAX_NAME_CHARS} characters"):
+        Review(None, [a], name="n" * (MAX_NAME_CHARS + 1))
+    with pytest.raises(ValueError, match=f"units must be at most {MAX_UNITS_CHARS} characters"):
+        Review(None, [a], units="u" * (MAX_UNITS_CHARS + 1))
+    with pytest.raises(ValueError, match="units must be text that can be saved as UTF-8"):
+        Review(None, [a], units="\ud800")
+    with pytest.raises(ValueError, match=r"candidates\[1\].name must be at most 500"):
+        Review(None, [a, _Named("x" * 1_000_000)])
+    r = Review(None, [a], name="n" * MAX_NAME_CHARS, units="u" * MAX_UNITS_CHARS)
+    with pytest.raises(ValueError, match="name must be at most 500 characters") as info:
+        r.choose("x" * 1_000_000, by="g", rationale="r")
+    assert len(str(info.value)) < 300  # the message quotes a count, not the value
+    with pytest.raises(ValueError, match="rationale must be text that can be saved as UTF-8"):
+        r.choose("a", by="g", rationale="\ud800")
+    r.choose("a", by="g" * MAX_NAME_CHARS, rationale="r" * 10_000)
+    assert save_html(r, tmp_path / "at-the-limits.html").stat().st_size > 0
+    assert [p.name for p in tmp_path.iterdir()] == ["at-the-limits.html"]
+
+
+def test_decision_is_read_only() -> None:
+    r = Review(None, [Sketch([0, 4, 10], [0, 0.5, 1], name="a")])
+    d = r.choose("a", by="g", rationale="r")
+    with pytest.raises(TypeError, match="read-only"):
+        d["chosen"] = "b"
+    with pytest.raises(TypeError, match="read-only"):
+        r.decision["by"] = "someone else"
+    spec = r.chosen_spec()
+    spec["provenance"]["decision"]["by"] = "changed"  # the spec is the caller's copy
+    assert r.decision["by"] == "g"
