@@ -3,7 +3,8 @@
 Run: ``PYTHONPATH=. python tests/review/bench_review_memory.py [n]`` (default 1e7). Each
 case runs in a fresh process; peak RSS from ``resource.getrusage`` minus the RSS after
 the imports and the data were made. Cases: what the views draw (the data's ECDF,
-band, histogram and the curves), the comparison alone, and the whole ReviewBoard. Smoke call: ``main(20_000)``.
+band, histogram and the curves), the comparison alone, and the whole ReviewBoard.
+Smoke call: ``main(20_000)``.
 """
 
 from __future__ import annotations
