@@ -521,7 +521,7 @@ function buildTable(doc, payload, entries) {
   section.append(table);
   const refs = t.columns.filter((c) => c.reference).map((c) => `${c.label}: the mark is ${c.reference.text}`);
   section.append(el(doc, "p", { class: "table-info" },
-    `${refs.join("; ")}. Dots share one scale per column. Click a heading to sort; hover it for what it measures. ${t.n} observations, ${t.nTest} held out. Distances on all data carry no p-value: the candidates were fitted or tuned on these data. Every raw score is in the comparison table's CSV (table().to_csv).`));
+    `${refs.join("; ")}. Dots share one scale per column (the tail chance in log scale). Click a heading to sort; hover it for what it measures. ${t.n} observations, ${t.nTest} held out. Distances on all data carry no p-value: the candidates were fitted or tuned on these data. Every raw score is in the comparison table's CSV (table().to_csv).`));
   return section;
 }
 

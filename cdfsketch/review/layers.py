@@ -28,6 +28,7 @@ __all__ = [
     "floor_flags",
     "histogram",
     "histogram_bins",
+    "nice_ticks",
     "x_range",
 ]
 
@@ -74,6 +75,23 @@ def histogram(values: np.ndarray, *, is_sorted: bool = False) -> tuple[np.ndarra
     else:
         counts, _ = np.histogram(v, bins=edges)
     return edges, counts / (v.size * np.diff(edges))
+
+
+def nice_ticks(lo: float, hi: float, count: int = 6) -> np.ndarray:
+    """About ``count`` round tick values (1, 2, 5 × 10^k steps) inside [lo, hi] (as the page).
+
+    Examples
+    --------
+    >>> nice_ticks(-9.3, 55.1).tolist(), nice_ticks(0, 1, 5).tolist()
+    ([0.0, 20.0, 40.0], [0.0, 0.2, 0.4, 0.6, 0.8, 1.0])
+    """
+    if not hi > lo:
+        return np.array([lo])
+    raw = (hi - lo) / max(1, count)
+    mag = 10.0 ** math.floor(math.log10(raw))
+    step = next(m * mag for m in (1, 2, 5, 10) if m * mag >= raw)
+    first, last = math.ceil(lo / step - 1e-9), math.floor(hi / step + 1e-9)
+    return np.array([round(k * step, 12) if k else 0.0 for k in range(first, last + 1)])
 
 
 def x_range(review: Any) -> tuple[float, float]:

@@ -13,7 +13,9 @@ a review meeting asks of each candidate:
 * how many parameters were estimated from the data.
 
 Each number is shown to 3 significant digits with its unit and its direction,
-and as a dot on a scale shared by the rows, so the order is seen at a glance.
+and as a dot on a scale shared by the rows, so the order is seen at a glance
+(distances from zero; held-out errors over their span; tail chances in log10,
+since they range over orders of magnitude).
 The board renders :func:`presentation` as HTML (:func:`table_html`), the page
 renders the same structure in the browser.
 """
@@ -63,21 +65,38 @@ QUESTIONS = (
 )
 
 
-def _scale(values: list[float | None], ref: float | None) -> tuple[float, float] | None:
-    finite = [v for v in values if v is not None and math.isfinite(v)]
+#: How each question's dots are laid out: from zero, over the values' span, or in log10.
+_SCALES = {"close": "zero", "predict": "span", "tail": "log", "params": "zero"}
+#: Smallest probability placed on the log scale (smaller ones sit at its left end).
+_LOG_FLOOR = 1e-5
+
+
+def _t(v: float, kind: str) -> float:
+    return math.log10(max(v, _LOG_FLOOR)) if kind == "log" else v
+
+
+def _scale(
+    values: list[float | None], ref: float | None, kind: str
+) -> tuple[float, float, str] | None:
+    finite = [_t(v, kind) for v in values if v is not None and math.isfinite(v)]
     if ref is not None:
-        finite.append(ref)
+        finite.append(_t(ref, kind))
     if not finite:
         return None
-    hi = max(finite)
-    lo = min(0.0, min(finite))
-    return (lo, hi if hi > lo else lo + 1.0)
+    lo, hi = min(finite), max(finite)
+    if kind == "zero":
+        lo = min(0.0, lo)
+    elif hi > lo:  # a little room at both ends so no dot sits on the edge
+        pad = 0.08 * (hi - lo)
+        lo, hi = lo - pad, hi + pad
+    return (lo, hi if hi > lo else lo + 1.0, kind)
 
 
-def _pos(v: float | None, scale: tuple[float, float] | None) -> float | None:
+def _pos(v: float | None, scale: tuple[float, float, str] | None) -> float | None:
     if v is None or scale is None or not math.isfinite(v):
         return None
-    return round((v - scale[0]) / (scale[1] - scale[0]), 4)
+    lo, hi, kind = scale
+    return round(min(1.0, max(0.0, (_t(v, kind) - lo) / (hi - lo))), 4)
 
 
 def _cell(v: Any) -> float | None:
@@ -118,7 +137,7 @@ def presentation(review: Any) -> dict[str, Any] | None:
     columns = []
     scales = {}
     for key, label, direction, help_ in QUESTIONS:
-        scales[key] = _scale(values[key], refs[key])
+        scales[key] = _scale(values[key], refs[key], _SCALES[key])
         ref = refs[key]
         columns.append(
             {
@@ -233,10 +252,11 @@ def table_html(pres: dict[str, Any], *, sort_by: str | None = None, ascending: b
     )
     return (
         '<table class="cdfsketch-comparison" style="border-collapse:collapse;font-size:13px;'
+        "line-height:1.3;"
         'max-width:100%;table-layout:auto">'
         f"<thead><tr>{''.join(head)}</tr></thead><tbody>{''.join(body)}</tbody></table>"
         f'<p style="font-size:12px;color:#555;margin:4px 0">{refs}. Dots share one scale per '
-        "column. Distances on all data carry no p-value: the candidates were fitted or tuned "
+        "column (the tail chance in log scale). Distances on all data carry no p-value: the candidates were fitted or tuned "
         "on these data. Every raw score: table().to_pandas() or table().to_csv(path).</p>"
     )
 

@@ -32,7 +32,15 @@ from .._numfmt import significant
 from .._validate import InputError, fail, quote
 from ..review import palette
 from ..review.figures import save_figure
-from ..review.layers import curves, data_layers, density_top, flags_text, floor_flags, x_range
+from ..review.layers import (
+    curves,
+    data_layers,
+    density_top,
+    flags_text,
+    floor_flags,
+    nice_ticks,
+    x_range,
+)
 from ..review.page import save_html
 from ..review.record import Review
 from ..review.table import QUESTIONS, presentation, table_html
@@ -46,7 +54,7 @@ bqplot = need("notebook", "bqplot")
 _MARGIN = {"top": 16, "bottom": 42, "left": 62, "right": 56}
 #: Bars in the invisible hover strip (the read-out's x resolution: range / this).
 HOVER_BARS = 240
-_SIDE_WIDTH = "310px"
+_SIDE_WIDTH = "280px"
 _BQ_DASH = {"solid": "solid", "dashed": "dashed", "dotted": "dotted", "dash-dot": "dash_dotted"}
 _BQ_MARKER = {"circle": "circle", "square": "square", "triangle-up": "triangle-up",
               "diamond": "diamond", "cross": "cross", "triangle-down": "triangle-down",
@@ -127,13 +135,14 @@ class ReviewBoard(widgets.VBox):
         self._show_decision()
         plots = widgets.VBox(
             [self.cdf_figure, self.pdf_figure],
-            layout={"flex": "1 1 520px", "min_width": "0", "overflow": "hidden"},
+            layout={"flex": "1 1 460px", "min_width": "0", "overflow": "hidden"},
         )
         main = widgets.HBox(
             [plots, self.side], layout={"flex_flow": "row wrap", "align_items": "flex-start"}
         )
         head = widgets.HTML(
-            f"<div style='font-family:{palette.FONT}'><b style='font-size:15px'>"
+            f'<div style="font-family:{html.escape(palette.FONT)};line-height:1.35">'
+            "<b style='font-size:15px'>"
             f"{html.escape(r.name or 'Review of candidate distributions')}</b><br>"
             "<span style='font-size:12.5px'>Untick a candidate to hide it; move the mouse "
             "over a plot to read each candidate's values at that point. "
@@ -182,7 +191,7 @@ class ReviewBoard(widgets.VBox):
                 (self._hi - self._lo) / 60
             )
             self.markers[c.name] = bqplot.Scatter(
-                x=mx, y=np.interp(mx, cv.x, cv.cdf), scales=xs, default_size=36
+                x=mx, y=np.interp(mx, cv.x, cv.cdf), scales=xs, default_size=18, stroke="white"
             )
             upper.append(self.markers[c.name])
             if np.any(cv.pdf > 0):
@@ -209,21 +218,22 @@ class ReviewBoard(widgets.VBox):
             self.guides.append(guide)
             self.hover_strips.append(strip)
         label = f"{r.name or 'x'}" + (f" ({r.units})" if r.units else "")
-        ticks = {"num_ticks": 6, "tick_format": ".4~g"}
+        ticks = {"tick_values": nice_ticks(self._lo, self._hi, 6), "tick_format": ".4~g"}
         self.cdf_figure = bqplot.Figure(
             marks=upper,
             axes=[bqplot.Axis(scale=self.x_scale, label=label, **ticks),
                   bqplot.Axis(scale=y_cdf, side="left", label="cumulative probability",
-                              num_ticks=5)],
+                              tick_values=[0, 0.25, 0.5, 0.75, 1], tick_format=".2~f")],
             fig_margin=_MARGIN, layout={"width": "100%", "height": "330px"},
         )  # fmt: skip
         dens = f"density (per {r.units})" if r.units else "density"
         lower_axes = [bqplot.Axis(scale=self.x_scale, label=label, **ticks),
-                      bqplot.Axis(scale=y_pdf, side="left", label=dens, num_ticks=4,
-                                  tick_format=".3~g")]  # fmt: skip
+                      bqplot.Axis(scale=y_pdf, side="left", label=dens, tick_format=".3~g",
+                                  tick_values=nice_ticks(0.0, y_pdf.max / 1.15, 4))]  # fmt: skip
         if masses:
-            lower_axes.append(bqplot.Axis(scale=y_mass, side="right",
-                                          label="atom mass", num_ticks=3))  # fmt: skip
+            lower_axes.append(bqplot.Axis(scale=y_mass, side="right", label="atom mass",
+                                          tick_values=nice_ticks(0.0, y_mass.max / 1.1, 3),
+                                          tick_format=".2~g"))  # fmt: skip
         self.pdf_figure = bqplot.Figure(
             marks=lower, axes=lower_axes, fig_margin=_MARGIN,
             layout={"width": "100%", "height": "240px"},
@@ -239,9 +249,11 @@ class ReviewBoard(widgets.VBox):
             box = widgets.Checkbox(value=True, indent=False, layout={"width": "22px"})
             box.observe(self._on_toggle, names="value")
             self.toggles[c.name] = box
-            label = widgets.HTML(layout={"width": "270px", "overflow": "hidden"})
+            label = widgets.HTML(layout={"width": "240px", "overflow": "hidden"})
             label.add_class("cdfsketch-legend-label")
-            rows.append(widgets.HBox([box, label], layout={"align_items": "center"}))
+            rows.append(
+                widgets.HBox([box, label], layout={"align_items": "center", "height": "24px"})
+            )
         self._legend_labels = [row.children[1] for row in rows[1:]]
         data_keys = []
         if self._layers is not None:
@@ -250,9 +262,14 @@ class ReviewBoard(widgets.VBox):
                 f'<span style="display:inline-block;width:26px;height:10px;background:'
                 f'{palette.BAND}"></span> {r.level:.0%} DKW band'
             )
-        rows.append(widgets.HTML("<small>" + "<br>".join(data_keys) + "</small>"))
+        rows.append(
+            widgets.HTML(
+                "<div style='line-height:1.4'><small>" + "<br>".join(data_keys) + "</small></div>"
+            )
+        )
         self.readout = widgets.HTML(
-            "<i>Move the mouse over a plot to read x, F(x) and f(x).</i>",
+            "<div style='line-height:1.3;font-size:12.5px'><i>Move the mouse over a plot to "
+            "read x, F(x) and f(x).</i></div>",
             layout={"min_height": "60px"},
         )
         self.readout.add_class("cdfsketch-review-readout")
@@ -270,7 +287,7 @@ class ReviewBoard(widgets.VBox):
             self.sort_descending = None
             self._table_box = [widgets.HTML("<i>No data: no comparison.</i>")]
             return
-        options = [("as given", None)] + [(label, key) for key, label, *_ in QUESTIONS]
+        options = [("as given", "")] + [(label, key) for key, label, *_ in QUESTIONS]
         self.sort_column = widgets.Dropdown(options=options, description="sort by",
                                             layout={"width": "280px"})  # fmt: skip
         self.sort_descending = widgets.Checkbox(value=False, description="descending")
@@ -396,7 +413,8 @@ class ReviewBoard(widgets.VBox):
             for r in rows
         )
         self.readout.value = (
-            f"<div style='font-size:12.5px'><b>x = {html.escape(significant(x, 4) + units)}</b>"
+            f"<div style='font-size:12.5px;line-height:1.3'><b>x = "
+            f"{html.escape(significant(x, 4) + units)}</b>"
             "<table style='border-collapse:collapse;width:100%;font-variant-numeric:"
             "tabular-nums'><tr><th style='text-align:left'>candidate</th><th>F(x)</th>"
             f"<th>f(x)</th></tr>{body}</table></div>"
@@ -448,7 +466,7 @@ class ReviewBoard(widgets.VBox):
             return ""
         return (
             f"<div style='color:#a33f00;border-left:4px solid {palette.KNOT_OUTSIDE_BAND};"
-            f"padding:1px 8px;font-size:12.5px'>{html.escape(text)}</div>"
+            f"padding:1px 8px;font-size:12.5px;line-height:1.35'>{html.escape(text)}</div>"
         )
 
     def _show_table(self) -> None:
@@ -456,7 +474,7 @@ class ReviewBoard(widgets.VBox):
             return
         self.table_view.value = table_html(
             self._pres,
-            sort_by=self.sort_column.value,
+            sort_by=self.sort_column.value or None,
             ascending=not self.sort_descending.value,
         )
 

@@ -395,3 +395,18 @@ def test_decision_is_read_only() -> None:
     spec = r.chosen_spec()
     spec["provenance"]["decision"]["by"] = "changed"  # the spec is the caller's copy
     assert r.decision["by"] == "g"
+
+
+def test_inline_styles_survive_parsing(board) -> None:
+    # issue 13 item 2: a font list with quotes must not end a style attribute early
+    from html.parser import HTMLParser
+
+    styles: list[str] = []
+
+    class Styles(HTMLParser):
+        def handle_starttag(self, tag, attrs):
+            styles.extend(v for k, v in attrs if k == "style" and v)
+
+    for w in board.children[:2]:
+        Styles().feed(w.value)
+    assert any("Segoe UI" in s and s.rstrip().endswith("line-height:1.35") for s in styles)
