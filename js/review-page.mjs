@@ -326,7 +326,8 @@ function buildPanels(doc, payload, entries) {
   }
   const pdfLines = entries.map((e) => (e.kind === "data" ? null : pdfPolyline(e.dist, lo, hi)));
   const top = densityTop(pdfLines, data);
-  const masses = entries.flatMap((e) => e.dist.atoms.filter((a) => a.x >= lo && a.x <= hi).map((a) => a.mass));
+  const spiked = (e) => e.dist.atoms.length <= (payload.maxSpikes ?? Infinity);
+  const masses = entries.filter(spiked).flatMap((e) => e.dist.atoms.filter((a) => a.x >= lo && a.x <= hi).map((a) => a.mass));
   const massTop = masses.length ? 1.1 * Math.max(...masses) : 1;
   const syP = linearScale(0, top, hPdf - MARGIN.bottom, MARGIN.top);
   const syM = linearScale(0, massTop, hPdf - MARGIN.bottom, MARGIN.top);
@@ -345,7 +346,7 @@ function buildPanels(doc, payload, entries) {
   }
   const order = [...entries].sort((a, b) => Number(a.chosen) - Number(b.chosen));
   for (const e of order) {
-    drawCandidate(doc, e, { lo, hi, sx, syC, syP, syM, layerC, layerP, pdf: pdfLines[entries.indexOf(e)] });
+    drawCandidate(doc, e, { lo, hi, sx, syC, syP, syM, layerC, layerP, pdf: pdfLines[entries.indexOf(e)], spikes: spiked(e) });
   }
   cdfSvg.append(layerC);
   pdfSvg.append(layerP);
@@ -385,7 +386,7 @@ function drawCandidate(doc, e, g) {
   g.layerC.append(gc);
   const gp = svgEl(doc, "g", { class: "candidate", "data-candidate": e.index });
   if (g.pdf) gp.append(svgEl(doc, "path", { d: pathData(g.pdf.x, g.pdf.y, g.sx, g.syP), class: "curve pdf", ...style }));
-  for (const a of e.dist.atoms) {
+  for (const a of g.spikes ? e.dist.atoms : []) {
     if (a.x < g.lo || a.x > g.hi) continue;
     const px = g.sx.map(a.x).toFixed(2);
     const spike = svgEl(doc, "line", { x1: px, x2: px, y1: g.syM.map(0), y2: g.syM.map(a.mass).toFixed(2), class: "spike", stroke: e.colour, "data-candidate": e.index });

@@ -85,12 +85,12 @@ def save_figure(
         up.plot(cv.x, cv.cdf, label=f"{c.name} (chosen)" if chosen else c.name, **kw)
         if np.any(cv.pdf > 0):
             down.plot(cv.pdf_x, cv.pdf, **kw)
-        if cv.atoms:
+        if cv.spikes:
             if spikes is None:
                 spikes = down.twinx()
                 spikes.set_ylabel("atom mass")
-            ax_ = [a.x for a in cv.atoms]
-            m = [a.mass for a in cv.atoms]
+            ax_ = [a.x for a in cv.spikes]
+            m = [a.mass for a in cv.spikes]
             spikes.vlines(ax_, 0, m, color=st.colour, lw=1.0)
             spikes.plot(ax_, m, _MPL_MARKER[st.marker], color=st.colour, ms=3)
     if spikes is not None:

@@ -19,6 +19,7 @@ from ..empirical import ECDF
 from ..sketch import Atom
 
 __all__ = [
+    "MAX_SPIKES",
     "Curve",
     "FloorFlag",
     "curves",
@@ -115,6 +116,11 @@ def x_range(review: Any) -> tuple[float, float]:
     return lo - pad, hi + pad
 
 
+#: A candidate with more atoms than this gets no spikes in the density panel: its steps
+#: show in the CDF panel and, for the resampled data, the histogram shows the values.
+MAX_SPIKES = 60
+
+
 @dataclass(frozen=True)
 class Curve:
     """Polylines of one candidate over the shared range."""
@@ -124,6 +130,11 @@ class Curve:
     pdf_x: np.ndarray
     pdf: np.ndarray
     atoms: tuple[Atom, ...] = field(default=())
+
+    @property
+    def spikes(self) -> tuple[Atom, ...]:
+        """The atoms drawn as spikes (none past :data:`MAX_SPIKES`)."""
+        return self.atoms if len(self.atoms) <= MAX_SPIKES else ()
 
 
 def curves(review: Any, *, points: int = 400) -> list[Curve]:

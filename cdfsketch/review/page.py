@@ -29,7 +29,7 @@ from .._frozen import thaw
 from .._validate import fail, quote
 from .._version import __version__
 from ._assets import read_asset
-from .layers import data_layers, flags_text, floor_flags, x_range
+from .layers import MAX_SPIKES, data_layers, flags_text, floor_flags, x_range
 from .palette import DASH_ARRAY
 from .record import Review
 from .table import presentation
@@ -101,6 +101,7 @@ def page_payload(review: Review, *, include_data: bool = False) -> dict[str, Any
         "packageVersion": __version__,
         "caution": CAUTION,
         "xRange": [lo, hi],
+        "maxSpikes": MAX_SPIKES,
         "data": _data_block(review, include_data),
         "candidates": cands,
         "flags": flags_text(floor_flags(review)),

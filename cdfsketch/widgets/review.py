@@ -160,7 +160,7 @@ class ReviewBoard(widgets.VBox):
         r, lay = self._review, self._layers
         y_cdf = bqplot.LinearScale(min=0.0, max=1.0)
         y_pdf = bqplot.LinearScale(min=0.0, max=density_top(r, self._curves, lay))
-        masses = [a.mass for cv in self._curves for a in cv.atoms]
+        masses = [a.mass for cv in self._curves for a in cv.spikes]
         y_mass = bqplot.LinearScale(min=0.0, max=1.1 * max(masses) if masses else 1.0)
         xs, ps = {"x": self.x_scale, "y": y_cdf}, {"x": self.x_scale, "y": y_pdf}
         ms = {"x": self.x_scale, "y": y_mass}
@@ -197,9 +197,9 @@ class ReviewBoard(widgets.VBox):
             if np.any(cv.pdf > 0):
                 self.pdf_lines[c.name] = bqplot.Lines(x=cv.pdf_x, y=cv.pdf, scales=ps)
                 lower.append(self.pdf_lines[c.name])
-            if cv.atoms:
-                ax_ = [[a.x, a.x] for a in cv.atoms]
-                ay = [[0.0, a.mass] for a in cv.atoms]
+            if cv.spikes:
+                ax_ = [[a.x, a.x] for a in cv.spikes]
+                ay = [[0.0, a.mass] for a in cv.spikes]
                 self.spikes[c.name] = bqplot.Lines(x=ax_, y=ay, scales=ms, stroke_width=2)
                 lower.append(self.spikes[c.name])
         self.guides = []

@@ -26,7 +26,8 @@ CONTROLS = (
 def test_board_layout(review_lab, size: tuple[int, int]) -> None:
     page = review_lab.page
     page.set_viewport_size({"width": size[0], "height": size[1]})
-    page.wait_for_timeout(600)  # Lab relayouts, bqplot redraws
+    page.evaluate("() => window.dispatchEvent(new Event('resize'))")
+    page.wait_for_timeout(1500)  # Lab relayouts, bqplot redraws
     board = page.locator(".cdfsketch-review").first
     page.locator(".cdfsketch-review-cdf").first.scroll_into_view_if_needed()
     page.wait_for_timeout(300)
@@ -43,6 +44,15 @@ def test_board_layout(review_lab, size: tuple[int, int]) -> None:
     assert widths["table"] <= widths["box"] + 1, widths  # the comparison fits, no scrolling
     assert widths["scroll"] <= widths["box"] + 1, widths
     assert widths["board"] <= widths["boardBox"] + 1, widths
+    # each plot fits its column (nothing clipped at the right edge)
+    for fig in (".cdfsketch-review-cdf", ".cdfsketch-review-pdf"):
+        fit = page.evaluate(
+            """(sel) => { const f = document.querySelector(sel);
+                          const c = f.parentElement.getBoundingClientRect();
+                          return [f.getBoundingClientRect().right, c.right]; }""",
+            fig,
+        )
+        assert fit[0] <= fit[1] + 1, (fig, fit)
     # the read-out's head is on screen beside (or, when narrow, just under) the CDF panel
     side = page.locator(".cdfsketch-review-readout").first.bounding_box()
     assert side is not None and side["y"] >= 0 and side["y"] + 40 <= size[1], side

@@ -45,7 +45,7 @@ def board(nile, experts, fits):
     )
 
 
-def test_candidates_named_and_kinded(board) -> None:
+def test_candidates_named_and_kinded(board, nile) -> None:
     assert board.names == ("expert A", HOSTILE[0], "pool", "normal", "gamma", "resampled data")
     kinds = [c.kind for c in board.review.candidates]
     assert kinds == ["sketch", "sketch", "sketch", "fit", "fit", "data"]
@@ -53,7 +53,10 @@ def test_candidates_named_and_kinded(board) -> None:
     # one CDF line per candidate, a PDF line per continuous one
     assert [line.labels[0] for line in board.cdf_lines.values()] == list(board.names)
     assert set(board.pdf_lines) == set(board.names) - {"resampled data"}
-    assert set(board.spikes) == {"resampled data"}  # the only candidate with atoms
+    # the only candidate with atoms is the resampled data: too many to spike (its histogram
+    # shows them); its CDF has every step
+    assert set(board.spikes) == set()
+    assert len(board.review.candidate("resampled data").atoms) == np.unique(nile).size
     # one shared x scale for both panels
     assert all(m.scales["x"] is board.x_scale for m in board.pdf_figure.marks)
     assert all(m.scales["x"] is board.x_scale for m in board.cdf_figure.marks)
@@ -130,7 +133,7 @@ def test_toggles_hide_marks_and_readout(board) -> None:
     board.show_readout(900.0)
     assert "gamma" not in board.readout.value  # only visible candidates are listed
     board.set_visible("resampled data", False)
-    assert board.spikes["resampled data"].visible is False
+    assert board.cdf_lines["resampled data"].visible is False
     board.set_visible("gamma", True)
     assert board.cdf_lines["gamma"].visible is True
     with pytest.raises(KeyError, match="No candidate named 'nope'"):
