@@ -17,7 +17,7 @@ from .._files import check_output_path, write_bytes
 from .._validate import number
 from .._version import __version__
 from . import palette
-from .layers import curves, data_layers, density_top, flags_text, floor_flags, x_range
+from .layers import curves, data_layers, density_top, flags_text, floor_flags, nice_ticks, x_range
 from .record import Review
 from .texts import CAUTION
 
@@ -97,6 +97,7 @@ def save_figure(
         spikes.set_ylim(0, None)
     down.set_ylim(0, density_top(review, cs, layers))
     up.set_xlim(lo, hi)
+    up.set_xticks(nice_ticks(lo, hi, 7))
     up.set_ylim(-0.02, 1.02)
     up.set_ylabel("cumulative probability")
     down.set_ylabel(f"density (per {review.units})" if review.units else "density")

@@ -30,11 +30,27 @@ __all__ = [
     "histogram",
     "histogram_bins",
     "nice_ticks",
+    "span",
     "x_range",
 ]
 
 #: Mass beyond a natural limit that is flagged (smaller is shown as none).
 FLAG_MASS = 1e-4
+
+
+_BIG = float(np.finfo(float).max)
+
+
+def span(lo: float, hi: float, n: int) -> np.ndarray:
+    """``n`` equally spaced points from ``lo`` to ``hi``, without overflow near ±1.8e308.
+
+    Examples
+    --------
+    >>> bool(np.all(np.isfinite(span(-1.7e308, 1.7e308, 5))))
+    True
+    """
+    t = np.linspace(0.0, 1.0, n)
+    return lo * (1.0 - t) + hi * t
 
 
 def histogram_bins(n: int) -> int:
@@ -68,7 +84,7 @@ def histogram(values: np.ndarray, *, is_sorted: bool = False) -> tuple[np.ndarra
     lo, hi = (float(v[0]), float(v[-1])) if is_sorted else (float(v.min()), float(v.max()))
     if not hi > lo:
         lo, hi = lo - 0.5, hi + 0.5
-    edges = np.linspace(lo, hi, histogram_bins(v.size) + 1)
+    edges = span(lo, hi, histogram_bins(v.size) + 1)
     if is_sorted:
         idx = np.searchsorted(v, edges, side="left")
         idx[-1] = v.size
@@ -88,7 +104,7 @@ def nice_ticks(lo: float, hi: float, count: int = 6) -> np.ndarray:
     """
     if not hi > lo:
         return np.array([lo])
-    raw = (hi - lo) / max(1, count)
+    raw = hi / max(1, count) - lo / max(1, count)
     mag = 10.0 ** math.floor(math.log10(raw))
     step = next(m * mag for m in (1, 2, 5, 10) if m * mag >= raw)
     first, last = math.ceil(lo / step - 1e-9), math.floor(hi / step + 1e-9)
@@ -110,10 +126,11 @@ def x_range(review: Any) -> tuple[float, float]:
     lo, hi = min(lows), max(highs)
     if review.data is not None:
         dlo, dhi = review.data_range
-        half = 0.5 * (dhi - dlo)
-        lo, hi = max(min(lo, dlo), dlo - half), min(max(hi, dhi), dhi + half)
-    pad = 0.03 * (hi - lo) if hi > lo else 1.0
-    return lo - pad, hi + pad
+        half = 0.5 * dhi - 0.5 * dlo  # no overflow for data near ±1.8e308
+        lo = max(min(lo, dlo), max(-_BIG, dlo - half))
+        hi = min(max(hi, dhi), min(_BIG, dhi + half))
+    pad = 0.03 * hi - 0.03 * lo if hi > lo else 1.0
+    return max(-_BIG, lo - pad), min(_BIG, hi + pad)
 
 
 #: A candidate with more atoms than this gets no spikes in the density panel: its steps
@@ -140,7 +157,7 @@ class Curve:
 def curves(review: Any, *, points: int = 400) -> list[Curve]:
     """Each candidate's CDF (with vertical jumps at atoms) and density over the range."""
     lo, hi = x_range(review)
-    grid = np.linspace(lo, hi, points)
+    grid = span(lo, hi, points)
     out = []
     for c in review.candidates:
         bp = np.asarray(c.model.breakpoints, dtype=float)
@@ -183,13 +200,14 @@ def data_layers(review: Any) -> dict[str, Any] | None:
 def _hist(review: Any) -> tuple[np.ndarray, np.ndarray]:
     e: ECDF = review.ecdf
     x, p = np.asarray(e.x, float), np.asarray(e.p, float)
-    edges = np.linspace(x[0], x[-1], histogram_bins(e.n) + 1) if x[-1] > x[0] else None
+    edges = span(x[0], x[-1], histogram_bins(e.n) + 1) if x[-1] > x[0] else None
     if edges is None:
         return histogram(x)
     # counts from the ECDF (distinct values and their cumulative mass): no pass over the data
     below = np.r_[0.0, p][np.searchsorted(x, edges, side="left")]
     below[-1] = 1.0
-    return edges, np.diff(below) / np.diff(edges)
+    with np.errstate(over="ignore"):
+        return edges, np.diff(below) / np.diff(edges)
 
 
 def density_top(review: Any, cs: list[Curve], layers: dict[str, Any] | None) -> float:

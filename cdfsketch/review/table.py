@@ -255,10 +255,10 @@ def table_html(pres: dict[str, Any], *, sort_by: str | None = None, ascending: b
         "line-height:1.3;"
         'max-width:100%;table-layout:auto">'
         f"<thead><tr>{''.join(head)}</tr></thead><tbody>{''.join(body)}</tbody></table>"
-        f'<p style="font-size:12px;color:#555;margin:4px 0;line-height:1.35">{refs}. Dots share one scale per '
-        "column (the tail chance in log scale). Distances on all data carry no p-value: the "
-        "candidates were fitted or tuned on these data. Every raw score: table().to_pandas() "
-        "or table().to_csv(path).</p>"
+        '<p style="font-size:12px;color:#555;margin:4px 0;line-height:1.35">'
+        f"{refs}. Dots share one scale per column (the tail chance in log scale). "
+        "Distances on all data carry no p-value: the candidates were fitted or tuned on "
+        "these data. Every raw score: table().to_pandas() or table().to_csv(path).</p>"
     )
 
 

@@ -39,6 +39,7 @@ from ..review.layers import (
     flags_text,
     floor_flags,
     nice_ticks,
+    span,
     x_range,
 )
 from ..review.page import save_html
@@ -187,9 +188,8 @@ class ReviewBoard(widgets.VBox):
         for c, cv in zip(r.candidates, self._curves, strict=True):
             self.cdf_lines[c.name] = bqplot.Lines(x=cv.x, y=cv.cdf, scales=xs, labels=[c.name])
             upper.append(self.cdf_lines[c.name])
-            mx = np.linspace(self._lo, self._hi, 9)[1:-1] + (r.names.index(c.name) % 5) * (
-                (self._hi - self._lo) / 60
-            )
+            shift = (r.names.index(c.name) % 5) / 60  # markers of neighbours apart
+            mx = span(self._lo, self._hi, 9)[1:-1] * (1 - shift) + self._hi * shift
             self.markers[c.name] = bqplot.Scatter(
                 x=mx, y=np.interp(mx, cv.x, cv.cdf), scales=xs, default_size=18, stroke="white"
             )
@@ -209,7 +209,7 @@ class ReviewBoard(widgets.VBox):
             guide = bqplot.Lines(x=[self._lo, self._lo], y=[0.0, 1.0], visible=False,
                                  scales={"x": self.x_scale, "y": unit}, colors=["#333333"],
                                  line_style="dashed", stroke_width=1)  # fmt: skip
-            centres = np.linspace(self._lo, self._hi, HOVER_BARS)
+            centres = span(self._lo, self._hi, HOVER_BARS)
             strip = bqplot.Bars(x=centres, y=np.ones(HOVER_BARS), scales={"x": self.x_scale,
                                 "y": unit}, padding=0.0, opacities=[0.0] * HOVER_BARS,
                                 colors=["#ffffff"], base=0.0)  # fmt: skip
@@ -397,7 +397,7 @@ class ReviewBoard(widgets.VBox):
         i = data.get("index")
         if i is None:
             return
-        x = self._lo + (self._hi - self._lo) * int(i) / (HOVER_BARS - 1)
+        x = float(span(self._lo, self._hi, HOVER_BARS)[int(i)])
         self.show_readout(x)
 
     def show_readout(self, x: float) -> None:

@@ -413,3 +413,21 @@ def test_inline_styles_survive_parsing(board) -> None:
     for w in board.children[:2]:
         Styles().feed(w.value)
     assert any("Segoe UI" in s and s.rstrip().endswith("line-height:1.35") for s in styles)
+
+
+def test_data_near_the_float64_limit(tmp_path) -> None:
+    # issue 16: data spanning ±1.7e308 once made the board fail ("x must not contain NaN")
+    import warnings
+
+    from cdfsketch.review import save_html
+
+    x = np.r_[-1.7e308, np.linspace(-1e307, 1e307, 20), 1.7e308]
+    s = Sketch([-1e100, 0, 1e100], [0, 0.5, 1], name="a")
+    with warnings.catch_warnings():
+        warnings.simplefilter("ignore", RuntimeWarning)  # scoring's own overflow notes
+        board = cdfsketch.ReviewBoard(x, [s], holdout=None)
+    lo, hi = board.x_scale.min, board.x_scale.max
+    assert np.isfinite([lo, hi]).all() and lo < -1e308 and hi > 1e308
+    board.show_readout(0.0)
+    assert "x = 0" in board.readout.value
+    assert save_html(board.review, tmp_path / "edge.html").stat().st_size > 0
