@@ -16,8 +16,8 @@ from .._extras import need
 from .._files import check_output_path, write_bytes
 from .._validate import number
 from .._version import __version__
-from . import palette
 from .layers import curves, data_layers, density_top, flags_text, floor_flags, nice_ticks, x_range
+from .palette import BAND, DATA
 from .record import Review
 from .texts import CAUTION
 
@@ -64,12 +64,12 @@ def save_figure(
     if layers is not None:
         up.fill_between(
             layers["band_x"], layers["band_lower"], layers["band_upper"],
-            color=palette.BAND, lw=0, label=f"{review.level:.0%} DKW band",
+            color=BAND, lw=0, label=f"{review.level:.0%} DKW band",
         )  # fmt: skip
-        up.plot(layers["steps_x"], layers["steps_p"], color=palette.DATA, lw=1.2, label="ECDF")
+        up.plot(layers["steps_x"], layers["steps_p"], color=DATA, lw=1.2, label="ECDF")
         e = layers["edges"]
         down.bar(e[:-1], layers["density"], width=np.diff(e), align="edge",
-                 color=palette.DATA, alpha=0.35, label="data histogram")  # fmt: skip
+                 color=DATA, alpha=0.35, label="data histogram")  # fmt: skip
     spikes = None
     for c, cv in zip(review.candidates, cs, strict=True):
         st = review.style(c.name)

@@ -21,8 +21,8 @@ from .._progress import check_progress
 from .._validate import fail, number, quote, text
 from ..empirical import ECDF, as_data
 from ..spec import data_fingerprint, validate_spec
-from . import palette
 from .candidates import ReviewCandidate, as_candidate, check_unique
+from .palette import Style, style
 from .table import finite_or_none
 
 __all__ = ["Review"]
@@ -105,7 +105,7 @@ class Review:
             as_candidate(c, i, self.units) for i, c in enumerate(items)
         )
         check_unique(self.candidates)
-        self._styles = {c.name: palette.style(i) for i, c in enumerate(self.candidates)}
+        self._styles = {c.name: style(i) for i, c in enumerate(self.candidates)}
         self.data: np.ndarray | None = None
         self._ecdf: ECDF | None = None
         self._fingerprint: Any = None
@@ -145,7 +145,7 @@ class Review:
             f"No candidate named {quote(name)}; the candidates are {quote(list(self.names))}."
         )
 
-    def style(self, name: str) -> palette.Style:
+    def style(self, name: str) -> Style:
         """Colour, dash and marker of a candidate: fixed by its position, for the review's life."""
         self.candidate(name)
         return self._styles[name]

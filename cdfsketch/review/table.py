@@ -29,7 +29,7 @@ from typing import Any
 import numpy as np
 
 from .._numfmt import significant
-from . import palette
+from .palette import DASH_ARRAY
 
 __all__ = ["QUESTIONS", "presentation", "sort_rows", "table_html"]
 
@@ -177,7 +177,7 @@ def presentation(review: Any) -> dict[str, Any] | None:
                 "kind": c.description,
                 "chosen": c.name == review.chosen,
                 "colour": st.colour,
-                "dash": palette.DASH_ARRAY[st.dash],
+                "dash": DASH_ARRAY[st.dash],
                 "cells": cells,
             }
         )
