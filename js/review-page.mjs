@@ -1,5 +1,5 @@
 // cdfsketch review page: the UI script of the standalone page that
-// cdfsketch.report.save_html writes. Dependency-free; the page inlines this
+// cdfsketch.review.save_html writes. Dependency-free; the page inlines this
 // module after js/spec-reader.mjs, so every curve is the spec reader's own
 // evaluation of the candidate's spec (the same arithmetic as Python).
 //
@@ -32,21 +32,6 @@ export function formatG(v, digits = 6) {
   }
   const s = v.toFixed(Math.max(0, digits - 1 - exp));
   return s.includes(".") ? s.replace(/\.?0+$/, "") : s;
-}
-
-/** A metric cell as a number: the page's JSON writes ±inf as "inf"/"-inf", NaN as null. */
-export function cellNumber(v) {
-  if (v === "inf") return Infinity;
-  if (v === "-inf") return -Infinity;
-  return v;
-}
-
-/** The display text of a table cell (numbers like Python's .6g, missing values empty). */
-export function cellText(v) {
-  const u = cellNumber(v);
-  if (u === null || u === undefined) return "";
-  if (typeof u === "number") return formatG(u, 6);
-  return String(u);
 }
 
 /** Largest float below x (numpy.nextafter(x, -inf)). */
@@ -140,27 +125,46 @@ export function readoutAt(entries, x) {
   }));
 }
 
-/** Rows sorted by a column, as ComparisonTable.sort_by does: missing (null/NaN) last. */
-export function sortRows(rows, column, ascending = true) {
-  const missing = (v) => v === null || v === undefined || (typeof v === "number" && Number.isNaN(v));
-  const have = rows.filter((r) => !missing(cellNumber(r[column])));
-  const rest = rows.filter((r) => missing(cellNumber(r[column])));
+/** Comparison rows ordered by one question's value, missing last, stable (review.table.sort_rows). */
+export function sortRows(rows, key, ascending = true) {
+  if (!key) return [...rows];
+  const value = (r) => r.cells[key].value;
+  const have = rows.filter((r) => value(r) !== null && value(r) !== undefined);
+  const rest = rows.filter((r) => value(r) === null || value(r) === undefined);
   const sign = ascending ? 1 : -1;
   const sorted = have
     .map((r, i) => ({ r, i }))
-    .sort((a, b) => {
-      const u = cellNumber(a.r[column]);
-      const v = cellNumber(b.r[column]);
-      const c = u < v ? -1 : u > v ? 1 : 0;
-      return c * sign || a.i - b.i; // stable, as Python's sort
-    })
+    .sort((a, b) => (value(a.r) < value(b.r) ? -1 : value(a.r) > value(b.r) ? 1 : 0) * sign || a.i - b.i)
     .map((o) => o.r);
   return [...sorted, ...rest];
+}
+
+/** SVG path data of a marker shape of radius r centred on (cx, cy). */
+export function markerPath(shape, cx, cy, r = 4) {
+  const p = (pts) => "M" + pts.map(([x, y]) => `${(cx + x * r).toFixed(2)},${(cy + y * r).toFixed(2)}`).join("L") + "Z";
+  switch (shape) {
+    case "square": return p([[-0.85, -0.85], [0.85, -0.85], [0.85, 0.85], [-0.85, 0.85]]);
+    case "triangle-up": return p([[0, -1.1], [1, 0.8], [-1, 0.8]]);
+    case "triangle-down": return p([[0, 1.1], [1, -0.8], [-1, -0.8]]);
+    case "diamond": return p([[0, -1.2], [1, 0], [0, 1.2], [-1, 0]]);
+    case "cross": return p([[-1, -0.35], [-0.35, -0.35], [-0.35, -1], [0.35, -1], [0.35, -0.35], [1, -0.35], [1, 0.35], [0.35, 0.35], [0.35, 1], [-0.35, 1], [-0.35, 0.35], [-1, 0.35]]);
+    case "star": return p([0, 1, 2, 3, 4, 5, 6, 7, 8, 9].map((k) => { const a = -Math.PI / 2 + (k * Math.PI) / 5; const m = k % 2 ? 0.45 : 1.15; return [m * Math.cos(a), m * Math.sin(a)]; }));
+    default: return `M${(cx - r).toFixed(2)},${cy.toFixed(2)}a${r},${r} 0 1,0 ${2 * r},0a${r},${r} 0 1,0 ${-2 * r},0Z`;
+  }
 }
 
 /** A data: URL holding the spec as pretty JSON, for the download link. */
 export function specDataUrl(spec) {
   return "data:application/json;charset=utf-8," + encodeURIComponent(JSON.stringify(spec, null, 2) + "\n");
+}
+
+/** cdfsketch._numfmt.significant: `digits` significant digits, no -0, ∞ for infinities, – if missing. */
+export function significant(v, digits = 4) {
+  if (v === null || v === undefined || Number.isNaN(v)) return "–";
+  if (v === Infinity) return "∞";
+  if (v === -Infinity) return "−∞";
+  const s = formatG(v, digits);
+  return Number(s) === 0 || Math.abs(v) < 1e-300 ? "0" : s;
 }
 
 // ---------------------------------------------------------------- DOM helpers
@@ -179,22 +183,39 @@ function svgEl(doc, tag, attrs = {}, text) {
   return node;
 }
 
+function definitionList(doc, items) {
+  const dl = el(doc, "dl");
+  for (const [k, v, id] of items) {
+    dl.append(el(doc, "dt", {}, k));
+    dl.append(el(doc, "dd", id ? { id } : {}, v));
+  }
+  return dl;
+}
+
+/** A legend swatch: the candidate's line (colour, dash) with its marker. */
+function swatch(doc, e, width = 30) {
+  const svg = svgEl(doc, "svg", { class: "swatch", width, height: 12, viewBox: `0 0 ${width} 12`, "aria-hidden": "true" });
+  svg.append(svgEl(doc, "line", { x1: 1, x2: width - 1, y1: 6, y2: 6, stroke: e.colour, "stroke-width": 2.5, "stroke-dasharray": e.dash }));
+  if (e.marker !== "none") svg.append(svgEl(doc, "path", { d: markerPath(e.marker, width / 2, 6, 3.5), fill: e.colour, stroke: "white", "stroke-width": 0.8 }));
+  return svg;
+}
+
 function axes(doc, svg, sx, sy, height, label, yLabel, yTicks) {
   const g = svgEl(doc, "g", { class: "axes" });
   const [x0, x1] = sx.domain;
   const bottom = height - MARGIN.bottom;
   g.append(svgEl(doc, "line", { x1: MARGIN.left, x2: VIEW_W - MARGIN.right, y1: bottom, y2: bottom, class: "axis" }));
   g.append(svgEl(doc, "line", { x1: MARGIN.left, x2: MARGIN.left, y1: MARGIN.top, y2: bottom, class: "axis" }));
-  for (const t of niceTicks(x0, x1, 8)) {
+  for (const t of niceTicks(x0, x1, 7)) {
     const px = sx.map(t);
     g.append(svgEl(doc, "line", { x1: px, x2: px, y1: bottom, y2: bottom + 4, class: "tick" }));
-    g.append(svgEl(doc, "text", { x: px, y: bottom + 16, class: "tick-label", "text-anchor": "middle" }, formatG(t, 6)));
+    g.append(svgEl(doc, "text", { x: px, y: bottom + 16, class: "tick-label", "text-anchor": "middle" }, significant(t, 4)));
   }
   for (const t of yTicks) {
     const py = sy.map(t);
     g.append(svgEl(doc, "line", { x1: MARGIN.left - 4, x2: MARGIN.left, y1: py, y2: py, class: "tick" }));
     g.append(svgEl(doc, "line", { x1: MARGIN.left, x2: VIEW_W - MARGIN.right, y1: py, y2: py, class: "gridline" }));
-    g.append(svgEl(doc, "text", { x: MARGIN.left - 7, y: py + 4, class: "tick-label", "text-anchor": "end" }, formatG(t, 4)));
+    g.append(svgEl(doc, "text", { x: MARGIN.left - 7, y: py + 4, class: "tick-label", "text-anchor": "end" }, significant(t, 3)));
   }
   g.append(svgEl(doc, "text", { x: (MARGIN.left + VIEW_W - MARGIN.right) / 2, y: height - 3, class: "axis-label", "text-anchor": "middle" }, label));
   g.append(svgEl(doc, "text", { x: 12, y: (MARGIN.top + bottom) / 2, class: "axis-label", "text-anchor": "middle", transform: `rotate(-90 12 ${(MARGIN.top + bottom) / 2})` }, yLabel));
@@ -212,13 +233,10 @@ function plotSvg(doc, id, height, title) {
   return svg;
 }
 
-// ---------------------------------------------------------------- the page
+// ---------------------------------------------------------------- the page, part by part
 
-/** Build the review page from its payload (see cdfsketch.report.page_payload). */
-export function main(doc, payload) {
-  const root = doc.getElementById("review-root");
-  const units = payload.units ? ` (${payload.units})` : "";
-  const [lo, hi] = payload.xRange;
+/** Read every candidate's spec; a spec that cannot be read becomes a problem shown as text. */
+function readEntries(payload) {
   const entries = [];
   const problems = [];
   payload.candidates.forEach((c, i) => {
@@ -228,50 +246,76 @@ export function main(doc, payload) {
       problems.push({ index: i, name: c.name, message: String(exc && exc.message) });
     }
   });
+  return { entries, problems };
+}
 
-  // header and caution
+/** Title, one line of guidance, the caution, flags, and unreadable candidates. */
+function buildHeader(doc, payload, problems) {
+  const units = payload.units ? ` · units (${payload.units})` : "";
   const header = el(doc, "header");
   header.append(el(doc, "h1", { id: "title" }, payload.title));
-  header.append(
-    el(doc, "p", { class: "subtitle" },
-      `${payload.candidates.length} candidates${units ? " · units" + units : ""} · written ${payload.generated} by cdfsketch ${payload.packageVersion}`),
-  );
-  root.append(header);
-  root.append(el(doc, "p", { id: "caution", role: "note" }, payload.caution));
-
-  // toggles (the legend)
-  const toggles = el(doc, "fieldset", { id: "toggles" });
-  toggles.append(el(doc, "legend", {}, "Candidates (untick to hide)"));
-  for (const e of entries) {
-    const label = el(doc, "label", { class: "toggle", "data-candidate": e.index });
-    const box = el(doc, "input", { type: "checkbox", "data-candidate": e.index });
-    box.checked = true;
-    label.append(box);
-    const sw = el(doc, "span", { class: "swatch" });
-    sw.style.background = e.dashed ? `repeating-linear-gradient(90deg, ${e.colour} 0 7px, transparent 7px 11px)` : e.colour;
-    label.append(sw);
-    label.append(el(doc, "span", { class: "candidate-name" }, e.name));
-    label.append(el(doc, "span", { class: "candidate-kind" }, ` ${e.description}${e.chosen ? " — chosen" : ""}`));
-    toggles.append(label);
-  }
-  root.append(toggles);
+  header.append(el(doc, "p", { class: "subtitle" },
+    `${payload.candidates.length} candidates${units} · written ${payload.generated} by cdfsketch ${payload.packageVersion}`));
+  header.append(el(doc, "p", { class: "guide-text" },
+    "Untick a candidate to hide it; move the mouse over a plot to read each candidate's values there. The comparison below answers the questions a review asks."));
+  header.append(el(doc, "p", { id: "caution", role: "note" }, payload.caution));
+  if (payload.flags) header.append(el(doc, "p", { id: "flags", role: "alert" }, payload.flags));
   for (const p of problems) {
     const msg = el(doc, "p", { class: "problem", "data-candidate": p.index });
     msg.append(el(doc, "span", { class: "candidate-name" }, p.name));
     msg.append(doc.createTextNode(`: this candidate's spec could not be read and is not drawn. ${p.message}`));
-    root.append(msg);
+    header.append(msg);
   }
+  return header;
+}
 
-  // the two panels
+/** The toggles are the legend: one per candidate (colour, dash, marker), plus the data layers. */
+function buildLegend(doc, payload, entries) {
+  const toggles = el(doc, "fieldset", { id: "toggles" });
+  toggles.append(el(doc, "legend", {}, "Candidates (untick to hide)"));
+  for (const e of entries) {
+    const label = el(doc, "label", { class: "toggle", "data-candidate": e.index, title: `${e.name} — ${e.description}` });
+    const box = el(doc, "input", { type: "checkbox", "data-candidate": e.index });
+    box.checked = true;
+    label.append(box, swatch(doc, e));
+    label.append(el(doc, "span", { class: "candidate-name" }, e.name));
+    if (e.chosen) label.append(el(doc, "span", { class: "chosen-mark" }, " (chosen)"));
+    toggles.append(label);
+  }
+  if (payload.data) {
+    const keys = el(doc, "p", { class: "data-keys" });
+    keys.append(swatch(doc, { colour: "#6b6b6b", dash: "none", marker: "none" }), doc.createTextNode(" data (ECDF, histogram)"), el(doc, "br"));
+    keys.append(el(doc, "span", { class: "band-key" }), doc.createTextNode(` ${Math.round(payload.level * 100)} % DKW band`));
+    toggles.append(keys);
+  }
+  return toggles;
+}
+
+/** The density axis top: the histogram and the median candidate peak, not a spike. */
+function densityTop(pdfLines, data) {
+  const peaks = pdfLines.filter(Boolean).map((l) => Math.max(...l.y)).filter((m) => m > 0).sort((a, b) => a - b);
+  let top = 0;
+  if (peaks.length) {
+    const h = peaks.length / 2;
+    top = peaks.length % 2 ? peaks[Math.floor(h)] : (peaks[h - 1] + peaks[h]) / 2;
+  }
+  if (data) top = Math.max(top, ...data.hist.density);
+  return top > 0 ? 1.15 * top : 1;
+}
+
+/** Both panels, the data layers and every candidate (chosen last, on top). */
+function buildPanels(doc, payload, entries) {
+  const [lo, hi] = payload.xRange;
+  const units = payload.units ? ` (${payload.units})` : "";
+  const xLabel = `${payload.name || "x"}${units}`;
   const hCdf = 320;
-  const hPdf = 240;
+  const hPdf = 230;
   const sx = linearScale(lo, hi, MARGIN.left, VIEW_W - MARGIN.right);
   const syC = linearScale(0, 1, hCdf - MARGIN.bottom, MARGIN.top);
   const cdfSvg = plotSvg(doc, "cdf-plot", hCdf, "Cumulative probability of each candidate over the ECDF and its band");
-  const data = payload.data;
-  const xLabel = `${payload.name || "x"}${units}`;
   axes(doc, cdfSvg, sx, syC, hCdf, xLabel, "cumulative probability", [0, 0.25, 0.5, 0.75, 1]);
   const layerC = svgEl(doc, "g", { "clip-path": "url(#cdf-plot-clip)" });
+  const data = payload.data;
   if (data) {
     const b = data.band;
     const poly = [];
@@ -280,36 +324,16 @@ export function main(doc, payload) {
     layerC.append(svgEl(doc, "polygon", { points: poly.join(" "), class: "band" }));
     layerC.append(svgEl(doc, "path", { d: pathData(data.steps.x, data.steps.p, sx, syC), class: "ecdf" }));
   }
-  // densities: histogram scale and the mass scale for spikes
-  const peaks = [];
-  const pdfLines = entries.map((e) => {
-    if (e.kind === "data") return null;
-    const line = pdfPolyline(e.dist, lo, hi);
-    const m = Math.max(...line.y);
-    if (m > 0) peaks.push(m);
-    return line;
-  });
-  peaks.sort((a, b) => a - b);
-  let top = peaks.length ? peaks[Math.floor((peaks.length - 1) / 2)] : 0;
-  if (peaks.length && peaks.length % 2 === 0) top = (peaks[peaks.length / 2 - 1] + peaks[peaks.length / 2]) / 2;
-  if (data) top = Math.max(top, ...data.hist.density);
-  top = top > 0 ? 1.15 * top : 1;
-  const masses = entries.flatMap((e) => e.dist.atoms.filter((a) => a.x >= lo && a.x <= hi).map((a) => a.mass));
+  const pdfLines = entries.map((e) => (e.kind === "data" ? null : pdfPolyline(e.dist, lo, hi)));
+  const top = densityTop(pdfLines, data);
+  const spiked = (e) => e.dist.atoms.length <= (payload.maxSpikes ?? Infinity);
+  const masses = entries.filter(spiked).flatMap((e) => e.dist.atoms.filter((a) => a.x >= lo && a.x <= hi).map((a) => a.mass));
   const massTop = masses.length ? 1.1 * Math.max(...masses) : 1;
   const syP = linearScale(0, top, hPdf - MARGIN.bottom, MARGIN.top);
   const syM = linearScale(0, massTop, hPdf - MARGIN.bottom, MARGIN.top);
   const pdfSvg = plotSvg(doc, "pdf-plot", hPdf, "Density of each candidate over the data histogram; atoms as spikes");
-  axes(doc, pdfSvg, sx, syP, hPdf, xLabel, "density", niceTicks(0, top / 1.15, 4));
-  if (masses.length) {
-    const g = svgEl(doc, "g", { class: "axes mass-axis" });
-    const right = VIEW_W - MARGIN.right;
-    g.append(svgEl(doc, "line", { x1: right, x2: right, y1: MARGIN.top, y2: hPdf - MARGIN.bottom, class: "axis" }));
-    for (const t of niceTicks(0, massTop / 1.1, 3)) {
-      g.append(svgEl(doc, "text", { x: right + 6, y: syM.map(t) + 4, class: "tick-label" }, formatG(t, 3)));
-    }
-    g.append(svgEl(doc, "text", { x: VIEW_W - 6, y: MARGIN.top + 8, class: "axis-label", "text-anchor": "end" }, "atom mass"));
-    pdfSvg.append(g);
-  }
+  axes(doc, pdfSvg, sx, syP, hPdf, xLabel, payload.units ? `density (per ${payload.units})` : "density", niceTicks(0, top / 1.15, 4));
+  if (masses.length) pdfSvg.append(massAxis(doc, syM, massTop, hPdf));
   const layerP = svgEl(doc, "g", { "clip-path": "url(#pdf-plot-clip)" });
   if (data) {
     const h = data.hist;
@@ -320,27 +344,9 @@ export function main(doc, payload) {
       layerP.append(svgEl(doc, "rect", { x: x0.toFixed(2), y: y.toFixed(2), width: Math.max(0, x1 - x0).toFixed(2), height: Math.max(0, syP.map(0) - y).toFixed(2), class: "hist" }));
     }
   }
-  // candidates, chosen last so it is on top
   const order = [...entries].sort((a, b) => Number(a.chosen) - Number(b.chosen));
   for (const e of order) {
-    const width = e.chosen ? 3.5 : 1.8;
-    const gc = svgEl(doc, "g", { class: "candidate", "data-candidate": e.index });
-    const line = cdfPolyline(e.dist, lo, hi);
-    gc.append(svgEl(doc, "path", { d: pathData(line.x, line.y, sx, syC), class: "curve cdf", stroke: e.colour, "stroke-width": width, "stroke-dasharray": e.dashed ? "7 4" : "none", "data-candidate": e.index }));
-    layerC.append(gc);
-    const gp = svgEl(doc, "g", { class: "candidate", "data-candidate": e.index });
-    const pl = pdfLines[entries.indexOf(e)];
-    if (pl) {
-      gp.append(svgEl(doc, "path", { d: pathData(pl.x, pl.y, sx, syP), class: "curve pdf", stroke: e.colour, "stroke-width": width, "stroke-dasharray": e.dashed ? "7 4" : "none", "data-candidate": e.index }));
-    }
-    for (const a of e.dist.atoms) {
-      if (a.x < lo || a.x > hi) continue;
-      const px = sx.map(a.x).toFixed(2);
-      const spike = svgEl(doc, "line", { x1: px, x2: px, y1: syM.map(0), y2: syM.map(a.mass).toFixed(2), class: "spike", stroke: e.colour, "data-candidate": e.index });
-      spike.append(svgEl(doc, "title", {}, `${e.name}: atom of mass ${formatG(a.mass, 4)} at ${formatG(a.x, 6)}`));
-      gp.append(spike);
-    }
-    layerP.append(gp);
+    drawCandidate(doc, e, { lo, hi, sx, syC, syP, syM, layerC, layerP, pdf: pdfLines[entries.indexOf(e)], spikes: spiked(e) });
   }
   cdfSvg.append(layerC);
   pdfSvg.append(layerP);
@@ -351,170 +357,225 @@ export function main(doc, payload) {
     svg.setAttribute("data-y-domain", sy.domain.join(" "));
     svg.setAttribute("data-y-pixels", `${sy.map(sy.domain[0])} ${sy.map(sy.domain[1])}`);
   }
+  return { cdfSvg, pdfSvg, sx };
+}
 
-  // hover: a guide line in both panels and the read-out
+function massAxis(doc, syM, massTop, hPdf) {
+  const g = svgEl(doc, "g", { class: "axes mass-axis" });
+  const right = VIEW_W - MARGIN.right;
+  g.append(svgEl(doc, "line", { x1: right, x2: right, y1: MARGIN.top, y2: hPdf - MARGIN.bottom, class: "axis" }));
+  for (const t of niceTicks(0, massTop / 1.1, 3)) {
+    g.append(svgEl(doc, "text", { x: right + 6, y: syM.map(t) + 4, class: "tick-label" }, significant(t, 3)));
+  }
+  g.append(svgEl(doc, "text", { x: VIEW_W - 6, y: MARGIN.top + 8, class: "axis-label", "text-anchor": "end" }, "atom mass"));
+  return g;
+}
+
+/** One candidate: its CDF with markers, its density, its atoms as spikes. */
+function drawCandidate(doc, e, g) {
+  const width = e.chosen ? 3.5 : 1.8;
+  const style = { stroke: e.colour, "stroke-width": width, "stroke-dasharray": e.dash, "data-candidate": e.index };
+  const gc = svgEl(doc, "g", { class: "candidate", "data-candidate": e.index });
+  const line = cdfPolyline(e.dist, g.lo, g.hi);
+  gc.append(svgEl(doc, "path", { d: pathData(line.x, line.y, g.sx, g.syC), class: "curve cdf", ...style }));
+  for (let k = 1; k <= 6; k++) {
+    const x = g.lo + ((g.hi - g.lo) * (k + 0.17 * (e.index % 5))) / 7.5;
+    const y = e.dist.cdf(x);
+    gc.append(svgEl(doc, "path", { d: markerPath(e.marker, g.sx.map(x), g.syC.map(y), 3.5), class: "marker", fill: e.colour }));
+  }
+  g.layerC.append(gc);
+  const gp = svgEl(doc, "g", { class: "candidate", "data-candidate": e.index });
+  if (g.pdf) gp.append(svgEl(doc, "path", { d: pathData(g.pdf.x, g.pdf.y, g.sx, g.syP), class: "curve pdf", ...style }));
+  for (const a of g.spikes ? e.dist.atoms : []) {
+    if (a.x < g.lo || a.x > g.hi) continue;
+    const px = g.sx.map(a.x).toFixed(2);
+    const spike = svgEl(doc, "line", { x1: px, x2: px, y1: g.syM.map(0), y2: g.syM.map(a.mass).toFixed(2), class: "spike", stroke: e.colour, "data-candidate": e.index });
+    spike.append(svgEl(doc, "title", {}, `${e.name}: atom of mass ${significant(a.mass, 4)} at ${significant(a.x, 6)}`));
+    gp.append(spike);
+  }
+  g.layerP.append(gp);
+}
+
+/** The read-out (visible candidates only) and the hover strips that drive it, no click needed. */
+function buildReadout(doc, payload, entries, panels) {
+  const [lo, hi] = payload.xRange;
   const readout = el(doc, "div", { id: "readout", "aria-live": "polite" });
-  const readHead = el(doc, "p", { class: "readout-x" }, "Hover over a panel to read x, p and the density of each candidate.");
+  const readHead = el(doc, "p", { class: "readout-x" }, "Move the mouse over a plot to read x, F(x) and f(x).");
   readout.append(readHead);
   const readTable = el(doc, "table", { class: "readout-table" });
   const rhead = el(doc, "tr");
-  for (const t of ["candidate", "p = F(x)", "density f(x)"]) rhead.append(el(doc, "th", {}, t));
+  for (const t of ["candidate", "F(x)", "f(x)"]) rhead.append(el(doc, "th", {}, t));
   readTable.append(rhead);
   const readRows = new Map();
   for (const e of entries) {
     const tr = el(doc, "tr", { "data-candidate": e.index });
-    const name = el(doc, "td", { class: "candidate-name" }, e.name);
-    name.style.borderLeft = `4px solid ${e.colour}`;
+    const name = el(doc, "td", { class: "candidate-name", title: e.name });
+    name.append(swatch(doc, e, 18), doc.createTextNode(" " + e.name));
     tr.append(name, el(doc, "td", { class: "p" }, ""), el(doc, "td", { class: "density" }, ""));
     readTable.append(tr);
     readRows.set(e.index, tr);
   }
   readout.append(readTable);
-  const guides = [cdfSvg, pdfSvg].map((svg) => {
+  const svgs = [panels.cdfSvg, panels.pdfSvg];
+  const guides = svgs.map((svg) => {
     const hgt = Number(svg.getAttribute("data-height"));
-    const g = svgEl(doc, "line", { class: "guide", y1: MARGIN.top, y2: hgt - MARGIN.bottom, x1: -10, x2: -10 });
-    svg.append(g);
-    return g;
+    const line = svgEl(doc, "line", { class: "guide", y1: MARGIN.top, y2: hgt - MARGIN.bottom, x1: -10, x2: -10 });
+    svg.append(line);
+    return line;
   });
   const show = (x) => {
-    const px = sx.map(x).toFixed(2);
-    for (const g of guides) {
-      g.setAttribute("x1", px);
-      g.setAttribute("x2", px);
+    const px = panels.sx.map(x).toFixed(2);
+    for (const line of guides) {
+      line.setAttribute("x1", px);
+      line.setAttribute("x2", px);
     }
     readout.setAttribute("data-x", String(x));
-    readHead.textContent = `x = ${formatG(x, 6)}${payload.units ? " " + payload.units : ""}`;
+    readHead.textContent = `x = ${significant(x, 6)}${payload.units ? " " + payload.units : ""}`;
     for (const r of readoutAt(entries, x)) {
       const tr = readRows.get(entries[r.index].index);
       tr.setAttribute("data-p", String(r.p));
       tr.setAttribute("data-density", String(r.density));
       tr.children[1].textContent = r.p.toFixed(4);
-      tr.children[2].textContent = entries[r.index].kind === "data" ? "atoms only" : formatG(r.density, 4);
+      tr.children[2].textContent = entries[r.index].kind === "data" ? "atoms" : significant(r.density, 4);
     }
   };
-  for (const svg of [cdfSvg, pdfSvg]) {
+  for (const svg of svgs) {
     const hgt = Number(svg.getAttribute("data-height"));
     const hit = svgEl(doc, "rect", { class: "hover-area", x: MARGIN.left, y: MARGIN.top, width: VIEW_W - MARGIN.left - MARGIN.right, height: hgt - MARGIN.top - MARGIN.bottom });
-    hit.addEventListener("mousemove", (ev) => {
+    hit.addEventListener("pointermove", (ev) => {
       const box = svg.getBoundingClientRect();
       const vx = ((ev.clientX - box.left) * VIEW_W) / box.width;
-      show(Math.min(hi, Math.max(lo, sx.invert(vx))));
+      show(Math.min(hi, Math.max(lo, panels.sx.invert(vx))));
     });
     svg.append(hit);
   }
-  const plots = el(doc, "section", { id: "plots" });
-  plots.append(cdfSvg, pdfSvg, readout);
-  root.append(plots);
+  return { readout, show };
+}
 
-  // toggling
-  toggles.addEventListener("change", (ev) => {
-    const box = ev.target;
-    const i = box.getAttribute("data-candidate");
-    for (const node of doc.querySelectorAll(`g.candidate[data-candidate="${Number(i)}"], tr[data-candidate="${Number(i)}"]`)) {
-      node.style.display = box.checked ? "" : "none";
-    }
-  });
-
-  // comparison table
-  const tableSection = el(doc, "section", { id: "comparison-section" });
-  tableSection.append(el(doc, "h2", {}, "Comparison"));
-  if (payload.table) {
-    const t = payload.table;
-    const table = el(doc, "table", { id: "comparison" });
-    const thead = el(doc, "thead");
-    const hr = el(doc, "tr");
-    const tbody = el(doc, "tbody");
-    const state = { column: null, ascending: true };
-    const fill = () => {
-      tbody.replaceChildren();
-      const rows = state.column ? sortRows(t.rows, state.column, state.ascending) : t.rows;
-      for (const r of rows) {
-        const tr = el(doc, "tr", r.name === (payload.decision && payload.decision.chosen) ? { class: "chosen" } : {});
-        for (const c of t.columns) tr.append(el(doc, "td", { "data-column": c }, cellText(r[c])));
-        tbody.append(tr);
-      }
-    };
-    for (const c of t.columns) {
-      const th = el(doc, "th", { title: t.notes[c] || "", "data-column": c });
-      const btn = el(doc, "button", { type: "button", class: "sort", "data-column": c }, c);
-      btn.addEventListener("click", () => {
-        state.ascending = state.column === c ? !state.ascending : true;
-        state.column = c;
-        for (const b of thead.querySelectorAll("th")) b.removeAttribute("aria-sort");
-        th.setAttribute("aria-sort", state.ascending ? "ascending" : "descending");
-        fill();
-      });
-      th.append(btn);
-      hr.append(th);
-    }
-    thead.append(hr);
-    table.append(thead, tbody);
-    fill();
-    tableSection.append(table);
-    const info = Object.entries(t.info).map(([k, v]) => `${k}=${cellText(v)}`).join(", ");
-    tableSection.append(
-      el(doc, "p", { class: "table-info" },
-        `${info}. Click a column name to sort; hover it for its meaning. Distances on all data carry no p-value: the candidates were fitted or tuned on these data.`),
-    );
-  } else {
-    tableSection.append(el(doc, "p", {}, "No data were given, so the candidates were not compared with observations."));
+/** A dot on the row's shared scale, with the column's reference mark. */
+function dotSvg(doc, pos, ref, colour) {
+  const w = 90;
+  const pad = 5;
+  const svg = svgEl(doc, "svg", { class: "dot", width: w, height: 14, viewBox: `0 0 ${w} 14`, "aria-hidden": "true" });
+  svg.append(svgEl(doc, "line", { x1: pad, x2: w - pad, y1: 7, y2: 7, class: "dot-track" }));
+  if (ref !== null && ref !== undefined) {
+    const x = (pad + ref * (w - 2 * pad)).toFixed(1);
+    svg.append(svgEl(doc, "line", { x1: x, x2: x, y1: 1, y2: 13, class: "dot-ref" }));
   }
-  root.append(tableSection);
+  if (pos !== null && pos !== undefined) {
+    svg.append(svgEl(doc, "circle", { cx: (pad + pos * (w - 2 * pad)).toFixed(1), cy: 7, r: 4, fill: colour, class: "dot-mark" }));
+  }
+  return svg;
+}
 
-  // decision
+/** The comparison, by the questions a review asks; sortable; raw scores stay in the CSV. */
+function buildTable(doc, payload, entries) {
+  const section = el(doc, "section", { id: "comparison-section" });
+  section.append(el(doc, "h2", {}, "How the candidates compare"));
+  const t = payload.table;
+  if (!t) {
+    section.append(el(doc, "p", {}, "No data were given, so the candidates were not compared with observations."));
+    return section;
+  }
+  const byIndex = new Map(entries.map((e) => [e.index, e]));
+  const table = el(doc, "table", { id: "comparison" });
+  const thead = el(doc, "thead");
+  const hr = el(doc, "tr");
+  const tbody = el(doc, "tbody");
+  const state = { key: null, ascending: true };
+  const fill = () => {
+    tbody.replaceChildren();
+    for (const r of sortRows(t.rows, state.key, state.ascending)) {
+      const tr = el(doc, "tr", { "data-candidate": r.index, ...(r.chosen ? { class: "chosen" } : {}) });
+      const name = el(doc, "td", { class: "name-cell", "data-column": "name" });
+      const e = byIndex.get(r.index) || { colour: r.colour, dash: r.dash, marker: "circle" };
+      name.append(swatch(doc, e, 22), doc.createTextNode(" "), el(doc, "span", { class: "candidate-name" }, r.name));
+      name.append(el(doc, "span", { class: "candidate-kind" }, r.kind + (r.chosen ? " — chosen" : "")));
+      tr.append(name);
+      for (const c of t.columns) {
+        const cell = r.cells[c.key];
+        const td = el(doc, "td", { "data-column": c.key, class: "metric" });
+        td.append(el(doc, "span", { class: "value" }, cell.text));
+        if (c.key !== "params") td.append(dotSvg(doc, cell.pos, c.reference ? c.reference.pos : null, r.colour));
+        tr.append(td);
+      }
+      tbody.append(tr);
+    }
+  };
+  hr.append(el(doc, "th", { class: "name-head" }, "Candidate"));
+  for (const c of t.columns) {
+    const th = el(doc, "th", { title: c.help, "data-column": c.key });
+    const btn = el(doc, "button", { type: "button", class: "sort", "data-column": c.key }, c.label + (c.unit ? ` (${c.unit})` : ""));
+    btn.addEventListener("click", () => {
+      state.ascending = state.key === c.key ? !state.ascending : true;
+      state.key = c.key;
+      for (const h of thead.querySelectorAll("th")) h.removeAttribute("aria-sort");
+      th.setAttribute("aria-sort", state.ascending ? "ascending" : "descending");
+      fill();
+    });
+    th.append(btn, el(doc, "span", { class: "direction" }, c.direction));
+    hr.append(th);
+  }
+  thead.append(hr);
+  table.append(thead, tbody);
+  fill();
+  section.append(table);
+  const refs = t.columns.filter((c) => c.reference).map((c) => `${c.label}: the mark is ${c.reference.text}`);
+  section.append(el(doc, "p", { class: "table-info" },
+    `${refs.join("; ")}. Dots share one scale per column (the tail chance in log scale). Click a heading to sort; hover it for what it measures. ${t.n} observations, ${t.nTest} held out. Distances on all data carry no p-value: the candidates were fitted or tuned on these data. Every raw score is in the comparison table's CSV (table().to_csv).`));
+  return section;
+}
+
+function buildDecision(doc, payload) {
   const dec = el(doc, "section", { id: "decision" });
   dec.append(el(doc, "h2", {}, "Decision"));
   const d = payload.decision;
-  if (d) {
-    const dl = el(doc, "dl");
-    const item = (k, v, id) => {
-      dl.append(el(doc, "dt", {}, k));
-      dl.append(el(doc, "dd", id ? { id } : {}, v));
-    };
-    item("chosen", d.chosen, "decision-chosen");
-    item("by", d.by, "decision-by");
-    item("when (UTC)", d.when, "decision-when");
-    item("rationale", d.rationale, "decision-rationale");
-    item("band level", String(d.level));
-    if (d.how_written) item("how the spec was written", d.how_written);
-    item("competitors", d.competitors.map((c) => c.name).join(", ") || "none");
-    dec.append(dl);
-    const a = el(doc, "a", { id: "download-spec", download: payload.chosenFile, href: specDataUrl(payload.chosenSpec) }, "Download the chosen spec (JSON)");
-    dec.append(a);
-  } else {
+  if (!d) {
     dec.append(el(doc, "p", { id: "no-decision" }, "No decision recorded yet."));
+    return dec;
   }
-  root.append(dec);
+  const items = [
+    ["chosen", d.chosen, "decision-chosen"],
+    ["by", d.by, "decision-by"],
+    ["when (UTC)", d.when, "decision-when"],
+    ["rationale", d.rationale, "decision-rationale"],
+    ["band level", String(d.level)],
+  ];
+  if (d.how_written) items.push(["how the spec was written", d.how_written]);
+  items.push(["competitors", d.competitors.map((c) => c.name).join(", ") || "none"]);
+  dec.append(definitionList(doc, items));
+  dec.append(el(doc, "a", { id: "download-spec", download: payload.chosenFile, href: specDataUrl(payload.chosenSpec) }, "Download the chosen spec (JSON)"));
+  return dec;
+}
 
-  // data summary
+function buildDataSummary(doc, payload) {
   const ds = el(doc, "section", { id: "data-summary" });
   ds.append(el(doc, "h2", {}, "Data"));
-  if (data) {
-    const dl = el(doc, "dl");
-    const item = (k, v, id) => {
-      dl.append(el(doc, "dt", {}, k));
-      dl.append(el(doc, "dd", id ? { id } : {}, v));
-    };
-    item("n", String(data.n), "data-n");
-    item("range", `${formatG(data.min, 6)} – ${formatG(data.max, 6)}${payload.units ? " " + payload.units : ""}`, "data-range");
-    item("median", formatG(data.median, 6));
-    item("SHA-256 (float64, little-endian, in order)", data.sha256, "data-sha256");
-    item("DKW band", `level ${payload.level}, half-width ε = ${formatG(data.band.eps, 4)}`);
-    ds.append(dl);
-    if (data.values) {
-      const det = el(doc, "details", { id: "raw-data" });
-      det.append(el(doc, "summary", {}, `Raw data (${data.values.length} values, in the order given)`));
-      det.append(el(doc, "pre", {}, data.values.map((v) => formatG(v, 12)).join("\n")));
-      ds.append(det);
-    } else {
-      ds.append(el(doc, "p", {}, "The raw values are not included in this page (the ECDF shows the distinct values)."));
-    }
-  } else {
+  const data = payload.data;
+  if (!data) {
     ds.append(el(doc, "p", {}, "No data."));
+    return ds;
   }
-  root.append(ds);
+  const unit = payload.units ? " " + payload.units : "";
+  ds.append(definitionList(doc, [
+    ["n", String(data.n), "data-n"],
+    ["range", `${significant(data.min, 6)} – ${significant(data.max, 6)}${unit}`, "data-range"],
+    ["median", significant(data.median, 6) + unit],
+    ["SHA-256 (float64, little-endian, in order)", data.sha256, "data-sha256"],
+    ["DKW band", `level ${payload.level}, half-width ε = ${significant(data.band.eps, 4)}`],
+  ]));
+  if (data.values) {
+    const det = el(doc, "details", { id: "raw-data" });
+    det.append(el(doc, "summary", {}, `Raw data (${data.values.length} values, in the order given)`));
+    det.append(el(doc, "pre", {}, data.values.map((v) => formatG(v, 17)).join("\n")));
+    ds.append(det);
+  } else {
+    ds.append(el(doc, "p", {}, "The raw values are not included in this page (the ECDF shows the distinct values)."));
+  }
+  return ds;
+}
 
-  // candidates: how each was made
+function buildNotes(doc, payload) {
   const cl = el(doc, "section", { id: "candidate-notes" });
   cl.append(el(doc, "h2", {}, "Candidates"));
   const ul = el(doc, "ul");
@@ -525,7 +586,36 @@ export function main(doc, payload) {
     ul.append(li);
   }
   cl.append(ul);
-  root.append(cl);
+  return cl;
+}
+
+/** Hide or show a candidate everywhere (curves, read-out row) when its toggle changes. */
+function wireToggles(doc, toggles) {
+  toggles.addEventListener("change", (ev) => {
+    const i = Number(ev.target.getAttribute("data-candidate"));
+    for (const node of doc.querySelectorAll(`g.candidate[data-candidate="${i}"], #readout tr[data-candidate="${i}"]`)) {
+      node.style.display = ev.target.checked ? "" : "none";
+    }
+  });
+}
+
+/** Build the review page from its payload (see cdfsketch.review.page.page_payload). */
+export function main(doc, payload) {
+  const root = doc.getElementById("review-root");
+  const { entries, problems } = readEntries(payload);
+  root.append(buildHeader(doc, payload, problems));
+  const panels = buildPanels(doc, payload, entries);
+  const toggles = buildLegend(doc, payload, entries);
+  const { readout, show } = buildReadout(doc, payload, entries, panels);
+  const plots = el(doc, "div", { id: "plots" });
+  plots.append(panels.cdfSvg, panels.pdfSvg);
+  const side = el(doc, "aside", { id: "side" });
+  side.append(readout, toggles);
+  const area = el(doc, "section", { id: "plots-area" });
+  area.append(plots, side);
+  root.append(area);
+  wireToggles(doc, toggles);
+  root.append(buildTable(doc, payload, entries), buildDecision(doc, payload), buildDataSummary(doc, payload), buildNotes(doc, payload));
   doc.title = payload.title;
   if (typeof performance !== "undefined" && performance.mark) performance.mark("cdfsketch-review-drawn");
   return { entries, problems, show };

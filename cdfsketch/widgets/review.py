@@ -1,17 +1,20 @@
 """The review board: candidates for one input side by side, and the group's decision.
 
-:class:`ReviewBoard` is the notebook view of a :class:`cdfsketch.report.Review`
-(which holds the candidates, the data, the comparison table and the
-decision). Every mark is derived from that one state; ``choose`` replaces
-the decision and the marks restyle.
+:class:`ReviewBoard` is the notebook view of a :class:`cdfsketch.review.Review`
+(which holds the candidates, the data, the comparison and the decision).
+Every mark is derived from that one state; ``choose`` replaces the decision
+and the marks restyle.
 
-Upper panel: each candidate's CDF over the data's ECDF staircase and its
-simultaneous DKW band. Lower panel: the densities over the data histogram,
-atoms as spikes (right axis: their mass). A toggle per candidate, the
-chosen candidate drawn blue and thick, one x scale shared by both panels,
-a hover read-out (x, p and density of each shown candidate) from a bqplot
-IndexSelector, the comparison table with a sort control, and a form to
-record the decision.
+Layout: the two panels (CDFs over the data's ECDF and its DKW band; densities
+over the histogram, atoms as spikes) take the width; beside them (below them
+on a narrow screen) a column holds the legend — one toggle per candidate with
+its colour, dash and marker, plus the data layers — and the read-out, so the
+values under the pointer are seen next to the curves. Beneath: flags, the
+comparison, the decision form, the caution.
+
+Hover needs no click: an invisible strip of bars over each panel reports the
+bar under the pointer, so the read-out follows the mouse (to 1/240 of the
+x range).
 """
 
 from __future__ import annotations
@@ -22,22 +25,49 @@ from datetime import datetime
 from pathlib import Path
 from typing import Any
 
-import bqplot
-import ipywidgets as widgets
 import numpy as np
-from bqplot import interacts
 
-from ..report import Review, curves, dashed, data_layers, density_top, table_html, x_range
-from . import palette
+from .._extras import need
+from .._numfmt import significant
+from .._validate import InputError, fail, quote
+from ..review import palette
+from ..review.figures import save_figure
+from ..review.layers import (
+    curves,
+    data_layers,
+    density_top,
+    flags_text,
+    floor_flags,
+    nice_ticks,
+    span,
+    x_range,
+)
+from ..review.page import save_html
+from ..review.record import Review
+from ..review.table import QUESTIONS, presentation, table_html
+from ..review.texts import CAUTION
 
 __all__ = ["ReviewBoard"]
 
-_FIG_LAYOUT = {"width": "100%", "height": "340px"}
-_FIG_MARGIN = {"top": 30, "bottom": 45, "left": 60, "right": 60}
+widgets = need("notebook", "ipywidgets")
+bqplot = need("notebook", "bqplot")
+
+_MARGIN = {"top": 16, "bottom": 42, "left": 62, "right": 56}
+#: Bars in the invisible hover strip (the read-out's x resolution: range / this).
+HOVER_BARS = 240
+_SIDE_WIDTH = "280px"
+_BQ_DASH = {"solid": "solid", "dashed": "dashed", "dotted": "dotted", "dash-dot": "dash_dotted"}
+_BQ_MARKER = {"circle": "circle", "square": "square", "triangle-up": "triangle-up",
+              "diamond": "diamond", "cross": "cross", "triangle-down": "triangle-down",
+              "star": "plus"}  # fmt: skip
 
 
-def _fmt(v: float, digits: int = 4) -> str:
-    return f"{v:.{digits}g}"
+def _swatch(colour: str, dash: str, width: int = 26) -> str:
+    return (
+        f'<svg width="{width}" height="10" aria-hidden="true" style="vertical-align:middle">'
+        f'<line x1="1" x2="{width - 1}" y1="5" y2="5" stroke="{colour}" stroke-width="3" '
+        f'stroke-dasharray="{palette.DASH_ARRAY[dash]}"/></svg>'
+    )
 
 
 class ReviewBoard(widgets.VBox):
@@ -54,7 +84,7 @@ class ReviewBoard(widgets.VBox):
     level : float
         Coverage of the DKW band.
     units, name : str
-        The quantity's units (axis label, chosen spec) and name (title,
+        The quantity's units (axis labels, chosen spec) and name (title,
         chosen spec's name).
     holdout : float or None
         Fraction held out by :func:`cdfsketch.fit.compare` for the table.
@@ -88,166 +118,208 @@ class ReviewBoard(widgets.VBox):
         progress: Any = None,
     ) -> None:
         self._review = Review(
-            data,
-            candidates,
-            level=level,
-            units=units,
-            name=name,
-            holdout=holdout,
-            rng=rng,
+            data, candidates, level=level, units=units, name=name, holdout=holdout, rng=rng,
             progress=progress,
-        )
-        r = self._review
-        lo, hi = x_range(r)
-        self._curves = curves(r)
-        layers = data_layers(r)
-        self.x_scale = bqplot.LinearScale(min=lo, max=hi)
-        y_cdf = bqplot.LinearScale(min=0.0, max=1.0)
-        y_pdf = bqplot.LinearScale(min=0.0, max=density_top(r, self._curves, layers))
-        masses = [a.mass for cv in self._curves for a in cv.atoms]
-        y_mass = bqplot.LinearScale(min=0.0, max=1.1 * max(masses) if masses else 1.0)
-        xs = {"x": self.x_scale, "y": y_cdf}
-        ps = {"x": self.x_scale, "y": y_pdf}
-        ms = {"x": self.x_scale, "y": y_mass}
-        upper_marks: list[Any] = []
-        lower_marks: list[Any] = []
-        if layers is not None:
-            upper_marks.append(
-                bqplot.Lines(
-                    x=layers["band_x"],
-                    y=[layers["band_lower"], layers["band_upper"]],
-                    scales=xs,
-                    fill="between",
-                    colors=[palette.BAND],
-                    fill_colors=[palette.BAND],
-                    fill_opacities=[0.8],
-                    labels=[f"{r.level:.0%} DKW band"],
-                )
-            )
-            upper_marks.append(
-                bqplot.Lines(
-                    x=layers["steps_x"],
-                    y=layers["steps_p"],
-                    scales=xs,
-                    colors=[palette.DATA],
-                    labels=["ECDF"],
-                    display_legend=True,
-                )
-            )
-            e, d = layers["edges"], layers["density"]
-            lower_marks.append(
-                bqplot.Lines(
-                    x=np.repeat(e, 2),
-                    y=np.r_[0.0, np.repeat(d, 2), 0.0],
-                    scales=ps,
-                    fill="bottom",
-                    colors=[palette.DATA],
-                    fill_colors=[palette.DATA],
-                    fill_opacities=[0.3],
-                    labels=["data histogram"],
-                )
-            )
-        self.cdf_lines: dict[str, bqplot.Lines] = {}
-        self.pdf_lines: dict[str, bqplot.Lines] = {}
-        self.spikes: dict[str, bqplot.Lines] = {}
-        for c, cv in zip(r.candidates, self._curves, strict=True):
-            self.cdf_lines[c.name] = bqplot.Lines(
-                x=cv.x, y=cv.cdf, scales=xs, labels=[c.name], display_legend=True
-            )
-            upper_marks.append(self.cdf_lines[c.name])
-            if c.kind != "data":
-                self.pdf_lines[c.name] = bqplot.Lines(x=cv.pdf_x, y=cv.pdf, scales=ps)
-                lower_marks.append(self.pdf_lines[c.name])
-            if cv.atoms:
-                ax_ = [[a.x, a.x] for a in cv.atoms]
-                ay = [[0.0, a.mass] for a in cv.atoms]
-                self.spikes[c.name] = bqplot.Lines(x=ax_, y=ay, scales=ms, stroke_width=2)
-                lower_marks.append(self.spikes[c.name])
-        label = f"{r.name or 'x'}" + (f" ({r.units})" if r.units else "")
-        x_axis = bqplot.Axis(scale=self.x_scale, label=label)
-        self.cdf_figure = bqplot.Figure(
-            marks=upper_marks,
-            axes=[
-                bqplot.Axis(scale=self.x_scale, label=label),
-                bqplot.Axis(scale=y_cdf, side="left", label="cumulative probability"),
-            ],
-            title=r.name,
-            legend_location="bottom-right",
-            fig_margin=_FIG_MARGIN,
-            layout=dict(_FIG_LAYOUT),
-        )
-        lower_axes = [x_axis, bqplot.Axis(scale=y_pdf, side="left", label="density")]
-        if masses:
-            lower_axes.append(bqplot.Axis(scale=y_mass, side="right", label="atom mass"))
-        self.pdf_figure = bqplot.Figure(
-            marks=lower_marks, axes=lower_axes, fig_margin=_FIG_MARGIN,
-            layout={"width": "100%", "height": "260px"},
         )  # fmt: skip
-        self.cdf_figure.add_class("cdfsketch-review-cdf")
-        self.pdf_figure.add_class("cdfsketch-review-pdf")
-        # hover: an index selector on each panel follows the mouse's x
-        self.selectors = []
-        for fig in (self.cdf_figure, self.pdf_figure):
-            sel = interacts.IndexSelector(scale=self.x_scale, marks=[])
-            sel.observe(self._on_hover, names="selected")
-            fig.interaction = sel
-            self.selectors.append(sel)
-        self.readout = widgets.HTML(value="<i>Move the mouse over a panel to read x, p, f.</i>")
-        # toggles
-        self.toggles: dict[str, widgets.Checkbox] = {}
-        for c in r.candidates:
-            box = widgets.Checkbox(value=True, description=c.name, indent=False)
-            box.layout.width = "auto"
-            box.observe(self._on_toggle, names="value")
-            self.toggles[c.name] = box
-        # table and its sort control
-        self.table_view = widgets.HTML()
-        if r._table is not None:
-            cols = list(r._table.columns)
-            self.sort_column = widgets.Dropdown(
-                options=["(as given)", *cols], description="sort by"
-            )
-            self.sort_descending = widgets.Checkbox(value=False, description="descending")
-            for w in (self.sort_column, self.sort_descending):
-                w.observe(lambda _change: self._show_table(), names="value")
-            table_box: list[Any] = [
-                widgets.HBox([self.sort_column, self.sort_descending]),
-                self.table_view,
-            ]
-        else:
-            self.sort_column = None
-            self.sort_descending = None
-            table_box = [widgets.HTML("<i>No data: no comparison table.</i>")]
-        # decision form
-        self.choice = widgets.Dropdown(options=list(r.names), description="choose")
-        self.decided_by = widgets.Text(description="by", placeholder="who decided")
-        self.rationale = widgets.Textarea(description="why", placeholder="the rationale")
-        self.record = widgets.Button(description="Record decision", button_style="primary")
-        self.record.on_click(self._on_record)
-        self.decision_view = widgets.HTML()
-        caution = widgets.HTML(f"<small>{html.escape(_caution())}</small>")
+        r = self._review
+        self._lo, self._hi = x_range(r)
+        self._curves = curves(r)
+        self._layers = data_layers(r)
+        self._pres = presentation(r)
+        self.x_scale = bqplot.LinearScale(min=self._lo, max=self._hi)
+        self._build_panels()
+        self._build_side()
+        self._build_table()
+        self._build_decision()
         self._restyle()
         self._show_table()
         self._show_decision()
-        super().__init__(
-            [
-                widgets.HBox(list(self.toggles.values()), layout={"flex_flow": "row wrap"}),
-                self.cdf_figure,
-                self.pdf_figure,
-                self.readout,
-                *table_box,
-                widgets.HBox([self.choice, self.decided_by]),
-                self.rationale,
-                self.record,
-                self.decision_view,
-                caution,
-            ]
+        plots = widgets.VBox(
+            [self.cdf_figure, self.pdf_figure],
+            layout={"flex": "1 1 460px", "min_width": "0", "overflow": "hidden"},
         )
+        main = widgets.HBox(
+            [plots, self.side], layout={"flex_flow": "row wrap", "align_items": "flex-start"}
+        )
+        head = widgets.HTML(
+            f'<div style="font-family:{html.escape(palette.FONT)};line-height:1.35">'
+            "<b style='font-size:15px'>"
+            f"{html.escape(r.name or 'Review of candidate distributions')}</b><br>"
+            "<span style='font-size:12.5px'>Untick a candidate to hide it; move the mouse "
+            "over a plot to read each candidate's values at that point. "
+            f"<i>{html.escape(CAUTION)}</i></span></div>"
+        )
+        self.flags_view = widgets.HTML(self._flags_html())
+        super().__init__(
+            [head, self.flags_view, main, *self._table_box, *self._decision_box],
+            layout={"width": "100%", "max_width": "1400px"},
+        )
+        self.add_class("cdfsketch-review")
+
+    # ------------------------------------------------------------ building
+    def _build_panels(self) -> None:
+        r, lay = self._review, self._layers
+        y_cdf = bqplot.LinearScale(min=0.0, max=1.0)
+        y_pdf = bqplot.LinearScale(min=0.0, max=density_top(r, self._curves, lay))
+        masses = [a.mass for cv in self._curves for a in cv.spikes]
+        y_mass = bqplot.LinearScale(min=0.0, max=1.1 * max(masses) if masses else 1.0)
+        xs, ps = {"x": self.x_scale, "y": y_cdf}, {"x": self.x_scale, "y": y_pdf}
+        ms = {"x": self.x_scale, "y": y_mass}
+        upper: list[Any] = []
+        lower: list[Any] = []
+        if lay is not None:
+            upper.append(bqplot.Lines(
+                x=lay["band_x"], y=[lay["band_lower"], lay["band_upper"]], scales=xs,
+                fill="between", colors=[palette.BAND], fill_colors=[palette.BAND],
+                fill_opacities=[0.8],
+            ))  # fmt: skip
+            upper.append(bqplot.Lines(x=lay["steps_x"], y=lay["steps_p"], scales=xs,
+                                      colors=[palette.DATA], stroke_width=1.4))  # fmt: skip
+            e, d = lay["edges"], lay["density"]
+            lower.append(bqplot.Lines(
+                x=np.repeat(e, 2), y=np.r_[0.0, np.repeat(d, 2), 0.0], scales=ps,
+                fill="bottom", colors=[palette.DATA], fill_colors=[palette.DATA],
+                fill_opacities=[0.3],
+            ))  # fmt: skip
+        self.cdf_lines: dict[str, Any] = {}
+        self.pdf_lines: dict[str, Any] = {}
+        self.markers: dict[str, Any] = {}
+        self.spikes: dict[str, Any] = {}
+        for c, cv in zip(r.candidates, self._curves, strict=True):
+            self.cdf_lines[c.name] = bqplot.Lines(x=cv.x, y=cv.cdf, scales=xs, labels=[c.name])
+            upper.append(self.cdf_lines[c.name])
+            shift = (r.names.index(c.name) % 5) / 60  # markers of neighbours apart
+            mx = span(self._lo, self._hi, 9)[1:-1] * (1 - shift) + self._hi * shift
+            self.markers[c.name] = bqplot.Scatter(
+                x=mx, y=np.interp(mx, cv.x, cv.cdf), scales=xs, default_size=18, stroke="white"
+            )
+            upper.append(self.markers[c.name])
+            if np.any(cv.pdf > 0):
+                self.pdf_lines[c.name] = bqplot.Lines(x=cv.pdf_x, y=cv.pdf, scales=ps)
+                lower.append(self.pdf_lines[c.name])
+            if cv.spikes:
+                ax_ = [[a.x, a.x] for a in cv.spikes]
+                ay = [[0.0, a.mass] for a in cv.spikes]
+                self.spikes[c.name] = bqplot.Lines(x=ax_, y=ay, scales=ms, stroke_width=2)
+                lower.append(self.spikes[c.name])
+        self.guides = []
+        self.hover_strips = []
+        for marks in (upper, lower):
+            unit = bqplot.LinearScale(min=0.0, max=1.0)
+            guide = bqplot.Lines(x=[self._lo, self._lo], y=[0.0, 1.0], visible=False,
+                                 scales={"x": self.x_scale, "y": unit}, colors=["#333333"],
+                                 line_style="dashed", stroke_width=1)  # fmt: skip
+            centres = span(self._lo, self._hi, HOVER_BARS)
+            strip = bqplot.Bars(x=centres, y=np.ones(HOVER_BARS), scales={"x": self.x_scale,
+                                "y": unit}, padding=0.0, opacities=[0.0] * HOVER_BARS,
+                                colors=["#ffffff"], base=0.0)  # fmt: skip
+            strip.on_hover(self._on_hover)
+            marks.extend([guide, strip])
+            self.guides.append(guide)
+            self.hover_strips.append(strip)
+        label = f"{r.name or 'x'}" + (f" ({r.units})" if r.units else "")
+        ticks = {"tick_values": nice_ticks(self._lo, self._hi, 6), "tick_format": ".4~g"}
+        self.cdf_figure = bqplot.Figure(
+            marks=upper,
+            axes=[bqplot.Axis(scale=self.x_scale, label=label, **ticks),
+                  bqplot.Axis(scale=y_cdf, side="left", label="cumulative probability",
+                              tick_values=[0, 0.25, 0.5, 0.75, 1], tick_format=".2~f")],
+            fig_margin=_MARGIN, layout={"width": "100%", "height": "330px"},
+        )  # fmt: skip
+        dens = f"density (per {r.units})" if r.units else "density"
+        lower_axes = [bqplot.Axis(scale=self.x_scale, label=label, **ticks),
+                      bqplot.Axis(scale=y_pdf, side="left", label=dens, tick_format=".3~g",
+                                  tick_values=nice_ticks(0.0, y_pdf.max / 1.15, 4))]  # fmt: skip
+        if masses:
+            lower_axes.append(bqplot.Axis(scale=y_mass, side="right", label="atom mass",
+                                          tick_values=nice_ticks(0.0, y_mass.max / 1.1, 3),
+                                          tick_format=".2~g"))  # fmt: skip
+        self.pdf_figure = bqplot.Figure(
+            marks=lower, axes=lower_axes, fig_margin=_MARGIN,
+            layout={"width": "100%", "height": "240px"},
+        )  # fmt: skip
+        self.cdf_figure.add_class("cdfsketch-review-cdf")
+        self.pdf_figure.add_class("cdfsketch-review-pdf")
+
+    def _build_side(self) -> None:
+        r = self._review
+        self.toggles: dict[str, Any] = {}
+        rows = [widgets.HTML("<b>Candidates</b> <small>(untick to hide)</small>")]
+        for c in r.candidates:
+            box = widgets.Checkbox(value=True, indent=False, layout={"width": "22px"})
+            box.observe(self._on_toggle, names="value")
+            self.toggles[c.name] = box
+            label = widgets.HTML(layout={"width": "240px", "overflow": "hidden"})
+            label.add_class("cdfsketch-legend-label")
+            rows.append(
+                widgets.HBox([box, label], layout={"align_items": "center", "height": "24px"})
+            )
+        self._legend_labels = [row.children[1] for row in rows[1:]]
+        data_keys = []
+        if self._layers is not None:
+            data_keys.append(_swatch(palette.DATA, "solid") + " data (ECDF, histogram)")
+            data_keys.append(
+                f'<span style="display:inline-block;width:26px;height:10px;background:'
+                f'{palette.BAND}"></span> {r.level:.0%} DKW band'
+            )
+        rows.append(
+            widgets.HTML(
+                "<div style='line-height:1.4'><small>" + "<br>".join(data_keys) + "</small></div>"
+            )
+        )
+        self.readout = widgets.HTML(
+            "<div style='line-height:1.3;font-size:12.5px'><i>Move the mouse over a plot to "
+            "read x, F(x) and f(x).</i></div>",
+            layout={"min_height": "60px"},
+        )
+        self.readout.add_class("cdfsketch-review-readout")
+        self.side = widgets.VBox(
+            [self.readout, *rows],
+            layout={"width": _SIDE_WIDTH, "flex": f"0 0 {_SIDE_WIDTH}", "padding": "0 0 0 8px"},
+        )
+        self.side.add_class("cdfsketch-review-side")
+
+    def _build_table(self) -> None:
+        self.table_view = widgets.HTML(layout={"max_width": "100%", "overflow": "hidden"})
+        self.table_view.add_class("cdfsketch-review-table")
+        if self._pres is None:
+            self.sort_column = None
+            self.sort_descending = None
+            self._table_box = [widgets.HTML("<i>No data: no comparison.</i>")]
+            return
+        options = [("as given", "")] + [(label, key) for key, label, *_ in QUESTIONS]
+        self.sort_column = widgets.Dropdown(options=options, description="sort by",
+                                            layout={"width": "280px"})  # fmt: skip
+        self.sort_descending = widgets.Checkbox(value=False, description="descending")
+        for w in (self.sort_column, self.sort_descending):
+            w.observe(lambda _change: self._show_table(), names="value")
+        self._table_box = [
+            widgets.HTML("<b>How the candidates compare</b>"),
+            widgets.HBox([self.sort_column, self.sort_descending]),
+            self.table_view,
+        ]
+
+    def _build_decision(self) -> None:
+        r = self._review
+        self.choice = widgets.Dropdown(options=list(r.names), description="choose")
+        self.decided_by = widgets.Text(description="by", placeholder="who decided")
+        self.rationale = widgets.Textarea(description="why", placeholder="the rationale",
+                                          layout={"width": "min(100%, 640px)"})  # fmt: skip
+        self.record = widgets.Button(description="Record decision", button_style="primary")
+        self.record.on_click(self._on_record)
+        self.decision_view = widgets.HTML()
+        self._decision_box = [
+            widgets.HTML("<b>Decision</b>"),
+            widgets.HBox([self.choice, self.decided_by], layout={"flex_flow": "row wrap"}),
+            self.rationale,
+            self.record,
+            self.decision_view,
+        ]
 
     # ------------------------------------------------------------ state
     @property
     def review(self) -> Review:
-        """The :class:`~cdfsketch.report.Review` this board shows."""
+        """The :class:`~cdfsketch.review.Review` this board shows."""
         return self._review
 
     @property
@@ -269,16 +341,18 @@ class ReviewBoard(widgets.VBox):
         """Show or hide one candidate (the same as its toggle)."""
         self._review.candidate(name)
         if not isinstance(visible, bool):
-            raise TypeError(f"visible must be True or False; got {visible!r}.")
+            raise fail("visible must be True or False", quote(visible),
+                       "Pass visible=False to hide.", field="visible", value=visible)  # fmt: skip
         self.toggles[name].value = visible
 
     # ------------------------------------------------------------ decision
     def choose(
         self, name: str, *, by: str, rationale: str, when: str | datetime | None = None
-    ) -> dict[str, Any]:
-        """Record the decision; see :meth:`cdfsketch.report.Review.choose`."""
+    ) -> Any:
+        """Record the decision; see :meth:`cdfsketch.review.Review.choose`."""
         decision = self._review.choose(name, by=by, rationale=rationale, when=when)
         self.choice.value = name
+        self._pres = presentation(self._review)
         self._restyle()
         self._show_table()
         self._show_decision()
@@ -289,97 +363,118 @@ class ReviewBoard(widgets.VBox):
         return self._review.chosen_spec()
 
     def table(self) -> Any:
-        """The comparison table (:class:`cdfsketch.fit.ComparisonTable`)."""
+        """The comparison table with every raw score (``to_pandas()``, ``to_csv()``)."""
         return self._review.table()
 
     def save_html(self, path: str | Path, *, include_data: bool = False) -> Path:
-        """Write the standalone review page; see :func:`cdfsketch.report.save_html`."""
-        return self._review.save_html(path, include_data=include_data)
+        """Write the standalone review page; see :func:`cdfsketch.review.save_html`."""
+        return save_html(self._review, path, include_data=include_data)
 
     def save_figure(self, path: str | Path, **options: Any) -> Path:
-        """Write PNG, SVG or PDF; see :func:`cdfsketch.report.save_figure`."""
-        return self._review.save_figure(path, **options)
+        """Write PNG, SVG or PDF; see :func:`cdfsketch.review.save_figure`."""
+        return save_figure(self._review, path, **options)
 
     # ------------------------------------------------------------ read-out
     def readout_at(self, x: float) -> list[dict[str, Any]]:
         """x, p and density of each shown candidate at ``x`` (what the read-out shows)."""
         v = float(x)
         if not np.isfinite(v):
-            raise ValueError(f"x must be a finite number; got {x!r}.")
+            raise fail("x must be a finite number", quote(x), "Pass a point on the x axis.",
+                       field="x", value=x)  # fmt: skip
         out = []
         for c in self._review.candidates:
             if not self.toggles[c.name].value:
                 continue
-            out.append(
-                {
-                    "name": c.name,
-                    "x": v,
-                    "p": float(c.cdf(v)),
-                    "density": None if c.kind == "data" else float(c.pdf(v)),
-                }
-            )
+            has_density = c.name in self.pdf_lines
+            out.append({
+                "name": c.name, "x": v, "p": float(c.cdf(v)),
+                "density": float(c.pdf(v)) if has_density else None,
+            })  # fmt: skip
         return out
 
-    def _on_hover(self, change: dict[str, Any]) -> None:
-        sel = change["new"]
-        if sel is None or len(sel) == 0:
+    def _on_hover(self, _mark: Any, content: dict[str, Any]) -> None:
+        data = content.get("data") or {}
+        i = data.get("index")
+        if i is None:
             return
-        self.show_readout(float(np.asarray(sel, dtype=float).ravel()[0]))
+        x = float(span(self._lo, self._hi, HOVER_BARS)[int(i)])
+        self.show_readout(x)
 
     def show_readout(self, x: float) -> None:
-        """Show the read-out at ``x`` (what hovering at ``x`` does)."""
+        """Show the read-out and the guide line at ``x`` (what hovering at ``x`` does)."""
         rows = self.readout_at(x)
         units = f" {self._review.units}" if self._review.units else ""
         body = "".join(
-            f"<tr><td>{html.escape(r['name'])}</td><td>{r['p']:.4f}</td>"
-            f"<td>{'atoms only' if r['density'] is None else _fmt(r['density'])}</td></tr>"
+            f"<tr><td style='max-width:150px;overflow:hidden;text-overflow:ellipsis;"
+            f"white-space:nowrap'>{_swatch(*self._style_bits(r['name']), width=16)} "
+            f"{html.escape(r['name'])}</td><td style='text-align:right'>{r['p']:.3f}</td>"
+            f"<td style='text-align:right'>"
+            f"{'atoms' if r['density'] is None else significant(r['density'], 3)}</td></tr>"
             for r in rows
         )
         self.readout.value = (
-            f"<b>x = {html.escape(_fmt(x, 6) + units)}</b>"
-            "<table><tr><th>candidate</th><th>p = F(x)</th><th>density</th></tr>"
-            f"{body}</table>"
+            f"<div style='font-size:12.5px;line-height:1.3'><b>x = "
+            f"{html.escape(significant(x, 4) + units)}</b>"
+            "<table style='border-collapse:collapse;width:100%;font-variant-numeric:"
+            "tabular-nums'><tr><th style='text-align:left'>candidate</th><th>F(x)</th>"
+            f"<th>f(x)</th></tr>{body}</table></div>"
         )
+        for g in self.guides:
+            with g.hold_sync():
+                g.x = [x, x]
+                g.visible = True
+
+    def _style_bits(self, name: str) -> tuple[str, str]:
+        st = self._review.style(name)
+        return st.colour, st.dash
 
     # ------------------------------------------------------------ views
     def _restyle(self) -> None:
         r = self._review
-        from ..report import colours
-
-        for c, col, dash in zip(r.candidates, colours(r), dashed(r), strict=True):
+        for c, label in zip(r.candidates, self._legend_labels, strict=True):
+            st = r.style(c.name)
             chosen = c.name == r.chosen
-            width = 3.5 if chosen else 1.8
-            style = "dashed" if dash else "solid"
-            line = self.cdf_lines[c.name]
-            with line.hold_sync():
-                line.colors = [col]
-                line.stroke_width = width
-                line.line_style = style
-                line.labels = [f"{c.name} (chosen)" if chosen else c.name]
-            if c.name in self.pdf_lines:
-                pl = self.pdf_lines[c.name]
-                with pl.hold_sync():
-                    pl.colors = [col]
-                    pl.stroke_width = width
-                    pl.line_style = style
+            width = 3.6 if chosen else 1.8
+            for marks in (self.cdf_lines, self.pdf_lines):
+                if c.name in marks:
+                    with marks[c.name].hold_sync():
+                        marks[c.name].colors = [st.colour]
+                        marks[c.name].stroke_width = width
+                        marks[c.name].line_style = _BQ_DASH[st.dash]
+            sc = self.markers[c.name]
+            with sc.hold_sync():
+                sc.colors = [st.colour]
+                sc.marker = _BQ_MARKER[st.marker]
             if c.name in self.spikes:
-                self.spikes[c.name].colors = [col]
+                self.spikes[c.name].colors = [st.colour]
+            mark = " <b>(chosen)</b>" if chosen else ""
+            label.value = (
+                f"<span title='{html.escape(c.name)} — {html.escape(c.description)}' "
+                "style='white-space:nowrap;overflow:hidden;text-overflow:ellipsis;display:block'>"
+                f"{_swatch(st.colour, st.dash)} {html.escape(c.name)}{mark}</span>"
+            )
 
-    def _on_toggle(self, change: dict[str, Any]) -> None:
+    def _on_toggle(self, _change: dict[str, Any]) -> None:
         for name, box in self.toggles.items():
-            for marks in (self.cdf_lines, self.pdf_lines, self.spikes):
+            for marks in (self.cdf_lines, self.pdf_lines, self.spikes, self.markers):
                 if name in marks:
                     marks[name].visible = box.value
 
+    def _flags_html(self) -> str:
+        text = flags_text(floor_flags(self._review))
+        if not text:
+            return ""
+        return (
+            f"<div style='color:#a33f00;border-left:4px solid {palette.KNOT_OUTSIDE_BAND};"
+            f"padding:1px 8px;font-size:12.5px;line-height:1.35'>{html.escape(text)}</div>"
+        )
+
     def _show_table(self) -> None:
-        r = self._review
-        if r._table is None or self.sort_column is None or self.sort_descending is None:
+        if self._pres is None or self.sort_column is None or self.sort_descending is None:
             return
-        col = self.sort_column.value
         self.table_view.value = table_html(
-            r._table,
-            chosen=r.chosen,
-            sort_by=None if col == "(as given)" else col,
+            self._pres,
+            sort_by=self.sort_column.value or None,
             ascending=not self.sort_descending.value,
         )
 
@@ -391,19 +486,13 @@ class ReviewBoard(widgets.VBox):
         self.decision_view.value = (
             f"<b>Chosen:</b> {html.escape(d['chosen'])} — by {html.escape(d['by'])}, "
             f"{html.escape(d['when'])}<br><b>Rationale:</b> "
-            f"<span style='white-space:pre-wrap'>{html.escape(d['rationale'])}</span>"
+            f'<span style="white-space:pre-wrap">{html.escape(d["rationale"])}</span>'
         )
 
     def _on_record(self, _button: Any) -> None:
         try:
             self.choose(self.choice.value, by=self.decided_by.value, rationale=self.rationale.value)
-        except (TypeError, ValueError, KeyError) as err:
-            self.decision_view.value = f"<span style='color:{palette.KNOT_OUTSIDE_BAND}'>" + (
-                html.escape(str(err)) + "</span>"
+        except (InputError, KeyError) as err:
+            self.decision_view.value = (
+                f'<span style="color:{palette.KNOT_OUTSIDE_BAND}">{html.escape(str(err))}</span>'
             )
-
-
-def _caution() -> str:
-    from ..report import CAUTION
-
-    return CAUTION

@@ -7,15 +7,15 @@ import { test } from "node:test";
 import { readSpec } from "../spec-reader.mjs";
 import {
   cdfPolyline,
-  cellNumber,
-  cellText,
   formatG,
   linearScale,
+  markerPath,
   nextDown,
   niceTicks,
   pathData,
   pdfPolyline,
   readoutAt,
+  significant,
   sortRows,
   specDataUrl,
 } from "../review-page.mjs";
@@ -40,13 +40,25 @@ test("formatG matches Python's format(v, '.6g')", () => {
   assert.equal(formatG(NaN), "");
 });
 
-test("cells decode the page JSON's inf and missing values like ComparisonTable._fmt", () => {
-  assert.equal(cellNumber("inf"), Infinity);
-  assert.equal(cellNumber("-inf"), -Infinity);
-  assert.equal(cellText(null), "");
-  assert.equal(cellText("-inf"), "-inf");
-  assert.equal(cellText(0.123456789), "0.123457");
-  assert.equal(cellText("gamma"), "gamma");
+test("significant matches cdfsketch._numfmt.significant", () => {
+  // Expected strings printed by cdfsketch._numfmt.significant (CPython 3.11)
+  const cases = [[1234.5678, 4, "1235"], [-0.00001234, 2, "-1.2e-05"], [-0.0, 4, "0"],
+    [0.0315, 3, "0.0315"], [2.69e-5, 3, "2.69e-05"], [1e-301, 3, "0"]];
+  for (const [v, d, want] of cases) assert.equal(significant(v, d), want, `significant(${v}, ${d})`);
+  assert.equal(significant(Infinity), "∞");
+  assert.equal(significant(-Infinity), "−∞");
+  assert.equal(significant(null), "–");
+  assert.equal(significant(NaN), "–");
+});
+
+test("every palette marker is a closed path around its centre", () => {
+  for (const m of ["circle", "square", "triangle-up", "diamond", "cross", "triangle-down", "star"]) {
+    const d = markerPath(m, 50, 20, 4);
+    assert.ok(d.startsWith("M") && d.endsWith("Z"), m);
+    const nums = (d.match(/-?\d+\.?\d*/g) || []).map(Number);
+    assert.ok(nums.length >= 4, m);
+  }
+  assert.notEqual(markerPath("square", 0, 0), markerPath("diamond", 0, 0));
 });
 
 test("nextDown is numpy.nextafter(x, -inf)", () => {
@@ -109,17 +121,14 @@ test("the read-out is the reader's cdf and pdf", () => {
   assert.equal(rows[1].density, 0);
 });
 
-test("rows sort like ComparisonTable.sort_by: missing last, stable, inf as numbers", () => {
-  const rows = [
-    { name: "a", ks: 0.3, log_score: "-inf" },
-    { name: "b", ks: null, log_score: -2 },
-    { name: "c", ks: 0.1, log_score: -1 },
-    { name: "d", ks: 0.3, log_score: null },
-  ];
-  assert.deepEqual(sortRows(rows, "ks").map((r) => r.name), ["c", "a", "d", "b"]);
-  assert.deepEqual(sortRows(rows, "ks", false).map((r) => r.name), ["a", "d", "c", "b"]);
-  assert.deepEqual(sortRows(rows, "log_score").map((r) => r.name), ["a", "b", "c", "d"]);
-  assert.deepEqual(sortRows(rows, "name", false).map((r) => r.name), ["d", "c", "b", "a"]);
+test("comparison rows sort like review.table.sort_rows: missing last, stable", () => {
+  const row = (name, close, tail) => ({ name, cells: { close: { value: close }, tail: { value: tail } } });
+  const rows = [row("a", 0.3, null), row("b", null, 0.2), row("c", 0.1, 0.1), row("d", 0.3, 0.5)];
+  const names = (rs) => rs.map((r) => r.name);
+  assert.deepEqual(names(sortRows(rows, "close")), ["c", "a", "d", "b"]);
+  assert.deepEqual(names(sortRows(rows, "close", false)), ["a", "d", "c", "b"]);
+  assert.deepEqual(names(sortRows(rows, "tail")), ["c", "b", "d", "a"]);
+  assert.deepEqual(names(sortRows(rows, null)), ["a", "b", "c", "d"]);
   assert.equal(rows[0].name, "a", "the input is not changed");
 });
 

@@ -22,11 +22,13 @@ import numpy as np
 import pytest
 
 import cdfsketch
-from cdfsketch import Sketch
+from cdfsketch.elicit import from_quantiles
 from cdfsketch.empirical import ECDF
-from cdfsketch.report import Review, _page_from_payload, page_payload
+from cdfsketch.review import Review, save_html
+from cdfsketch.review.page import _page_from_payload, page_payload
 
 from ._chromium import CHROMIUM, FLAGS
+from ._review_helpers import overlaps, shot
 
 pytestmark = pytest.mark.browser
 
@@ -55,10 +57,8 @@ def _need_browser() -> Any:
 def review(nile: np.ndarray) -> Review:
     from cdfsketch.fit import fit_candidates
 
-    a = Sketch.from_quantiles({0.1: 650, 0.5: 880, 0.9: 1150}, name="expert A", lower=400)
-    b = Sketch.from_quantiles(
-        {0.05: 600, 0.5: 930, 0.95: 1250}, name=HOSTILE[0], interpolation="pchip"
-    )
+    a = from_quantiles({0.1: 650, 0.5: 880, 0.9: 1150}, name="expert A", lower=400)
+    b = from_quantiles({0.05: 600, 0.5: 930, 0.95: 1250}, name=HOSTILE[0], interpolation="pchip")
     pooled = cdfsketch.pool([a, b], name=HOSTILE[1])
     fits = fit_candidates(
         nile, families=["normal", "gamma", "lognormal", "weibull"], mixtures=[2], rng=0
@@ -71,7 +71,7 @@ def review(nile: np.ndarray) -> Review:
 
 @pytest.fixture(scope="module")
 def page_file(review: Review, tmp_path_factory: pytest.TempPathFactory) -> Path:
-    return review.save_html(tmp_path_factory.mktemp("page") / "review.html")
+    return save_html(review, tmp_path_factory.mktemp("page") / "review.html")
 
 
 @pytest.fixture(scope="module")
@@ -154,8 +154,12 @@ def test_every_curve_drawn_fast_and_offline(opened: Opened, review: Review) -> N
         assert cdf.is_visible()
         pdf = page.locator(f'path.curve.pdf[data-candidate="{i}"]')
         assert pdf.count() == (0 if c.kind == "data" else 1)
-    spikes = page.locator('line.spike[data-candidate="9"]')
-    assert spikes.count() == np.unique(review.data).size  # the resampled data's atoms
+    # the resampled data's atoms (97 distinct values) are steps in the CDF panel and the
+    # histogram in the density panel: more than MAX_SPIKES atoms get no spikes
+    from cdfsketch.review.layers import MAX_SPIKES
+
+    assert np.unique(review.data).size > MAX_SPIKES
+    assert page.locator('line.spike[data-candidate="9"]').count() == 0
     timing = page.evaluate(
         """() => ({
             drawn: performance.getEntriesByName('cdfsketch-review-drawn')[0].startTime,
@@ -223,11 +227,17 @@ def test_hover_reads_python_values(opened: Opened, review: Review, fraction: flo
     px = box["x"] + (left + fraction * (right - left)) * scale
     py = box["y"] + 150 * scale
     page.mouse.move(px, py)
+
+    def lo_hi_at(f: float) -> float:
+        lo, hi = page_payload(review)["xRange"]
+        return lo + f * (hi - lo)
+
     readout = page.locator("#readout")
     x = float(readout.get_attribute("data-x"))
     shown_x = page.locator("#readout .readout-x").text_content()
     assert shown_x.startswith("x = ") and shown_x.endswith(" 1e8 m3")
     assert float(shown_x[4:-7]) == pytest.approx(x, rel=5e-6)  # 6 significant digits
+    assert x == pytest.approx(lo_hi_at(fraction), rel=1e-3)  # no click was needed
     for i, c in enumerate(review.candidates):
         tr = page.locator(f'#readout tr[data-candidate="{i}"]')
         shown_p = float(tr.locator("td.p").text_content())
@@ -277,25 +287,29 @@ def test_hostile_text_renders_as_text(opened: Opened, review: Review) -> None:
     assert page.evaluate("() => document.scripts.length") == 2
     assert page.locator("#decision b").count() == 0
     # the table cells hold the raw names as text
-    cells = page.locator('#comparison td[data-column="name"]').all_text_contents()
+    cells = page.locator('#comparison td[data-column="name"] .candidate-name').all_text_contents()
     assert cells == list(review.names)
     opened.check_clean()
 
 
-def test_table_sorts_by_clicked_column(opened: Opened, review: Review) -> None:
+def test_table_sorts_by_clicked_question(opened: Opened, review: Review) -> None:
+    from cdfsketch.review.table import presentation, sort_rows
+
     page = opened.page
-    page.locator('button.sort[data-column="ks"]').click()
-    shown = page.locator('#comparison td[data-column="name"]').all_text_contents()
-    expected = [r["name"] for r in review.table().sort_by("ks").rows]
-    assert shown == expected
-    page.locator('button.sort[data-column="ks"]').click()
-    shown = page.locator('#comparison td[data-column="name"]').all_text_contents()
-    expected = [r["name"] for r in review.table().sort_by("ks", ascending=False).rows]
-    assert shown == expected
-    # log_score holds -inf for the resampled data (written "-inf" in the JSON)
-    page.locator('button.sort[data-column="log_score"]').click()
-    shown = page.locator('#comparison td[data-column="name"]').all_text_contents()
-    assert shown == [r["name"] for r in review.table().sort_by("log_score").rows]
+    rows = presentation(review)["rows"]
+    names = '#comparison td[data-column="name"] .candidate-name'
+    page.locator('button.sort[data-column="close"]').click()
+    assert page.locator(names).all_text_contents() == [r["name"] for r in sort_rows(rows, "close")]
+    page.locator('button.sort[data-column="close"]').click()
+    assert page.locator(names).all_text_contents() == [
+        r["name"] for r in sort_rows(rows, "close", ascending=False)
+    ]
+    # missing values (no parameters for a judgement) go last, as in Python
+    page.locator('button.sort[data-column="params"]').click()
+    assert page.locator(names).all_text_contents() == [r["name"] for r in sort_rows(rows, "params")]
+    shown = page.locator('#comparison td[data-column="close"] .value').all_text_contents()
+    want = [r["cells"]["close"]["text"] for r in sort_rows(rows, "params")]
+    assert shown == want  # 3 significant digits, from the one formatter
     opened.check_clean()
 
 
@@ -320,7 +334,7 @@ def test_malformed_spec_is_reported_as_text(context, review: Review, tmp_path: P
 
 
 def test_include_data_lists_the_values(context, review: Review, tmp_path: Path) -> None:
-    path = review.save_html(tmp_path / "with-data.html", include_data=True)
+    path = save_html(review, tmp_path / "with-data.html", include_data=True)
     o = Opened(context, path)
     try:
         text = o.page.locator("#raw-data pre").text_content()
@@ -335,3 +349,37 @@ def test_include_data_lists_the_values(context, review: Review, tmp_path: Path) 
     finally:
         o.close()
     assert not math.isnan(values[0])
+
+
+_CONTROLS = "input, button, select, textarea, a, label, summary, #readout, #toggles"
+
+
+@pytest.mark.parametrize("size", [(1400, 900), (1000, 700)])
+def test_layout_at_screen_sizes(context, page_file: Path, size: tuple[int, int]) -> None:
+    # issue 13: no control over a plot; the comparison fits 1000 px without scrolling; the
+    # read-out is on screen next to the plots; shots go to /work/shots/review (not the repo)
+    o = Opened(context, page_file)
+    try:
+        page = o.page
+        page.set_viewport_size({"width": size[0], "height": size[1]})
+        page.wait_for_timeout(100)
+        assert overlaps(page, "svg.plot", _CONTROLS) == []
+        widths = page.evaluate(
+            """() => ({doc: document.documentElement.scrollWidth, view: innerWidth,
+                       table: document.querySelector('#comparison').scrollWidth,
+                       box: document.querySelector('#comparison-section').clientWidth})"""
+        )
+        assert widths["doc"] <= widths["view"], widths
+        assert widths["table"] <= widths["box"], widths
+        plot = page.locator("#cdf-plot")
+        plot.scroll_into_view_if_needed()
+        box = plot.bounding_box()
+        page.mouse.move(box["x"] + 0.5 * box["width"], box["y"] + 0.5 * box["height"])
+        readout = page.locator("#readout")
+        assert readout.get_attribute("data-x") is not None  # hover alone updated it
+        rb = readout.bounding_box()
+        assert rb is not None and 0 <= rb["y"] and rb["y"] + 60 <= size[1]  # its head is seen
+        shot(page, f"page-{size[0]}x{size[1]}.png")
+        o.check_clean()
+    finally:
+        o.close()

@@ -28,8 +28,10 @@ import pytest
 
 import cdfsketch
 from cdfsketch import Sketch
+from cdfsketch.elicit import from_quantiles
 from cdfsketch.empirical import ECDF
-from cdfsketch.report import CAUTION, Review, page_html, page_script, safe_json
+from cdfsketch.review import CAUTION, Review, page_html, save_figure, save_html
+from cdfsketch.review.page import page_payload, page_script, safe_json
 
 HOSTILE = [
     "<img src=x onerror=alert(1)>",
@@ -42,8 +44,8 @@ HOSTILE = [
 def review(nile: np.ndarray) -> Review:
     from cdfsketch.fit import fit_candidates
 
-    a = Sketch.from_quantiles({0.1: 650, 0.5: 880, 0.9: 1150}, name=HOSTILE[0])
-    b = Sketch.from_quantiles({0.05: 600, 0.5: 930, 0.95: 1250}, name=HOSTILE[1])
+    a = from_quantiles({0.1: 650, 0.5: 880, 0.9: 1150}, name=HOSTILE[0])
+    b = from_quantiles({0.05: 600, 0.5: 930, 0.95: 1250}, name=HOSTILE[1])
     fits = fit_candidates(nile, families=["normal"], mixtures=[], kde=False, rng=0)
     r = Review(nile, [a, b, *fits, ECDF(nile)], units=HOSTILE[2], name=HOSTILE[1], rng=0)
     r.choose("normal", by=HOSTILE[0], rationale=HOSTILE[1] + "\n" + HOSTILE[2])
@@ -136,8 +138,6 @@ def test_safe_json_round_trips() -> None:
 
 
 def test_payload_contents(review: Review, nile: np.ndarray) -> None:
-    from cdfsketch.report import page_payload
-
     pay = page_payload(review)
     d = pay["data"]
     assert d["n"] == 100 and d["min"] == 456.0 and d["max"] == 1370.0  # statsmodels nile
@@ -154,6 +154,11 @@ def test_payload_contents(review: Review, nile: np.ndarray) -> None:
     for c in pay["candidates"]:
         cdfsketch.validate_spec(c["spec"])
     assert [c["chosen"] for c in pay["candidates"]] == [False, False, True, False]
+    # each candidate keeps its palette style (colour, dash, marker): chosen or not
+    assert [c["colour"] for c in pay["candidates"]] == [
+        review.style(n).colour for n in review.names
+    ]
+    assert len({(c["colour"], c["dash"], c["marker"]) for c in pay["candidates"]}) == 4
     with_data = page_payload(review, include_data=True)["data"]["values"]
     assert with_data == nile.tolist()
     assert cdfsketch.data_fingerprint(with_data)["sha256"] == d["sha256"]
@@ -161,7 +166,7 @@ def test_payload_contents(review: Review, nile: np.ndarray) -> None:
 
 def test_script_inlines_the_spec_reader() -> None:
     script = page_script()
-    root = Path(__file__).resolve().parents[1]
+    root = Path(__file__).resolve().parents[2]
     reader = (root / "js" / "spec-reader.mjs").read_text(encoding="utf-8")
     # the reader's code is carried over line for line, only `export ` dropped
     assert reader.replace("\nexport ", "\n") in script
@@ -174,13 +179,14 @@ def test_script_inlines_the_spec_reader() -> None:
 
 
 def test_save_html_writes_and_checks(review: Review, tmp_path: Path) -> None:
-    out = review.save_html(tmp_path / "review.html")
+    out = save_html(review, tmp_path / "review.html")
     assert out.read_text(encoding="utf-8").startswith("<!DOCTYPE html>")
-    with pytest.raises(ValueError, match=r"path must end in \.html"):
-        review.save_html(tmp_path / "review.txt")
-    with pytest.raises(TypeError, match="include_data must be True or False"):
+    assert sorted(p.name for p in tmp_path.iterdir()) == ["review.html"]  # no stray temp file
+    with pytest.raises(ValueError, match=r"review page must end in .html, .htm"):
+        save_html(review, tmp_path / "review.txt")
+    with pytest.raises(ValueError, match="include_data must be True or False"):
         page_html(review, include_data="yes")
-    with pytest.raises(TypeError, match=r"review must be a cdfsketch\.report\.Review"):
+    with pytest.raises(ValueError, match=r"review must be a cdfsketch\.review\.Review"):
         page_html("review")
 
 
@@ -193,7 +199,7 @@ def test_no_decision_page(nile: np.ndarray) -> None:
 
 @pytest.mark.parametrize("suffix", [".png", ".svg", ".pdf"])
 def test_figures_are_valid(review: Review, tmp_path: Path, suffix: str) -> None:
-    out = review.save_figure(tmp_path / f"fig{suffix}", dpi=60)
+    out = save_figure(review, tmp_path / f"fig{suffix}", dpi=60)
     blob = out.read_bytes()
     if suffix == ".png":
         assert blob[:8] == b"\x89PNG\r\n\x1a\n"  # PNG signature (ISO/IEC 15948 §5.2)
@@ -208,14 +214,15 @@ def test_figures_are_valid(review: Review, tmp_path: Path, suffix: str) -> None:
 
 
 def test_figure_errors(review: Review, tmp_path: Path, monkeypatch: pytest.MonkeyPatch) -> None:
-    with pytest.raises(ValueError, match=r"save_figure writes .png, .svg, .pdf.*got '.*fig.jpg'"):
-        review.save_figure(tmp_path / "fig.jpg")
-    with pytest.raises(ValueError, match="dpi must be a positive number"):
-        review.save_figure(tmp_path / "fig.png", dpi=0)
+    with pytest.raises(ValueError, match=r"figure must end in .png, .svg, .pdf; got 'fig.jpg'"):
+        save_figure(review, tmp_path / "fig.jpg")
+    with pytest.raises(ValueError, match="dpi must be a finite number"):
+        save_figure(review, tmp_path / "fig.png", dpi=0)
     monkeypatch.setitem(sys.modules, "matplotlib", None)
     monkeypatch.setitem(sys.modules, "matplotlib.figure", None)
-    with pytest.raises(ImportError, match=r"needs matplotlib.*pip install cdfsketch\[report\]"):
-        review.save_figure(tmp_path / "fig.png")
+    with pytest.raises(ImportError, match=r"'review' extra.*pip install 'cdfsketch\[review\]'"):
+        save_figure(review, tmp_path / "fig.png")
+    assert list(tmp_path.iterdir()) == []  # nothing written by a refused call
 
 
 def test_table_csv(review: Review, tmp_path: Path) -> None:

@@ -1,0 +1,161 @@
+"""Browser helpers for the review screens: a JupyterLab running a review-board notebook,
+and the layout checks shared by the board and the page.
+
+The server and the kernel-ready wait are the browser suite's own (``conftest``); only
+the notebook differs: it builds a ReviewBoard on invented repair times.
+"""
+
+from __future__ import annotations
+
+import json
+import os
+import shutil
+import subprocess
+import sys
+import time
+import urllib.request
+from collections.abc import Iterator
+from pathlib import Path
+from typing import Any
+
+import pytest
+
+from ._chromium import CHROMIUM, FLAGS
+from .conftest import OVERRIDES, Lab, _free_port, _missing, _wait_kernel
+
+#: Where screenshots go (outside the repository); skipped when its parent is missing.
+SHOTS = Path(os.environ.get("CDFSKETCH_SHOTS", "/work/shots/review"))
+
+BOARD_CELLS = [
+    "import numpy as np\n"
+    "import cdfsketch\n"
+    "from cdfsketch import Sketch\n"
+    "from cdfsketch.empirical import ECDF\n"
+    "from cdfsketch.fit import fit_candidates\n"
+    "hours = np.round(np.random.default_rng(7).gamma(1.6, 6.0, 240), 1)  # invented\n"
+    "a = Sketch([0.5, 3, 12, 60], [0, 0.4, 0.8, 1], name='crew lead (invented)', units='h')\n"
+    "b = Sketch([-2, 5, 20, 70], [0, 0.45, 0.85, 1], name='depot planner (invented)')\n"
+    "pooled = cdfsketch.pool([a, b], name='linear pool of the two experts')\n"
+    "fits = fit_candidates(hours, families=['gamma', 'lognormal', 'weibull', 'normal'],\n"
+    "                      mixtures=[2], kde=True, rng=1, progress=False)\n"
+    "board = cdfsketch.ReviewBoard(hours, [a, b, pooled, *fits, ECDF(hours)], units='h',\n"
+    "                              name='pump repair time (invented)', rng=1, progress=False)\n"
+    "board.choose('gamma', by='review group (invented)', rationale='closest held-out error')\n"
+    "board",
+]
+
+#: Script: controls whose box intersects a plot's box (none may); args [plots, controls].
+OVERLAP_JS = """([plotSel, controlSel]) => {
+  const plots = [...document.querySelectorAll(plotSel)].map((p) => p.getBoundingClientRect());
+  const bad = [];
+  const cross = (r, p) =>
+    r.left < p.right - 0.5 && r.right > p.left + 0.5 &&
+    r.top < p.bottom - 0.5 && r.bottom > p.top + 0.5;
+  for (const c of document.querySelectorAll(controlSel)) {
+    const r = c.getBoundingClientRect();
+    if (r.width === 0 || r.height === 0) continue;
+    if (c.closest(plotSel)) continue; // a plot's own toolbar belongs to the plot
+    const what = `${c.tagName}.${c.className} ${c.textContent.slice(0, 30)} ${c.title || ""}`;
+    for (const p of plots) if (cross(r, p)) bad.push(what);
+  }
+  return bad;
+}"""
+
+
+def overlaps(page: Any, plots: str, controls: str) -> list[str]:
+    """Controls (CSS selector) that overlap a plot (CSS selector) on the page."""
+    return page.evaluate(OVERLAP_JS, [plots, controls])
+
+
+def shot(page: Any, name: str) -> None:
+    """Save a screenshot under :data:`SHOTS` (not in the repository), if its folder can exist."""
+    if SHOTS.parent.exists():
+        SHOTS.mkdir(parents=True, exist_ok=True)
+        page.screenshot(path=str(SHOTS / name))
+
+
+def _notebook(cells: list[str]) -> dict[str, Any]:
+    return {
+        "cells": [
+            {
+                "cell_type": "code",
+                "execution_count": None,
+                "id": f"c{i}",
+                "metadata": {},
+                "outputs": [],
+                "source": src,
+            }
+            for i, src in enumerate(cells)
+        ],
+        "metadata": {
+            "kernelspec": {"name": "python3", "display_name": "Python 3", "language": "python"}
+        },
+        "nbformat": 4,
+        "nbformat_minor": 5,
+    }
+
+
+@pytest.fixture(scope="module", name="review_lab")
+def review_lab_fixture(tmp_path_factory: pytest.TempPathFactory) -> Iterator[Lab]:
+    """JupyterLab with the review-board notebook open and run (server and browser stopped)."""
+    if not Path(CHROMIUM).exists():
+        _missing(CHROMIUM)
+    try:
+        from playwright.sync_api import sync_playwright
+    except ImportError:
+        _missing("the playwright Python package")
+    root = tmp_path_factory.mktemp("review-lab-root")
+    (root / "review_probe.ipynb").write_text(json.dumps(_notebook(BOARD_CELLS)), encoding="utf-8")
+    settings = tmp_path_factory.mktemp("review-lab-settings")
+    (settings / "overrides.json").write_text(json.dumps(OVERRIDES), encoding="utf-8")
+    port, token = _free_port(), os.urandom(12).hex()
+    cmd = [
+        sys.executable, "-m", "jupyterlab", "--no-browser", "--ip=127.0.0.1", f"--port={port}",
+        "--port-retries=0", "--allow-root", f"--IdentityProvider.token={token}",
+        f"--ServerApp.root_dir={root}", "--LabApp.expose_app_in_browser=True",
+        f"--LabApp.app_settings_dir={settings}", "--LabApp.news_url=None",
+    ]  # fmt: skip
+    log = open(root.parent / f"review-lab-{port}.log", "wb")  # closed in the finally below
+    server = subprocess.Popen(cmd, stdout=log, stderr=subprocess.STDOUT, cwd=root)
+    base = f"http://127.0.0.1:{port}"
+    try:
+        for _ in range(200):
+            try:
+                urllib.request.urlopen(f"{base}/api/status?token={token}", timeout=1)
+                break
+            except OSError:
+                if server.poll() is not None:
+                    raise RuntimeError("jupyter lab exited; see the log") from None
+                time.sleep(0.1)
+        profile = tmp_path_factory.mktemp("review-chromium-profile")
+        with sync_playwright() as pw:
+            ctx = pw.chromium.launch_persistent_context(
+                str(profile), executable_path=CHROMIUM, headless=True, args=FLAGS,
+                viewport={"width": 1400, "height": 900},
+            )  # fmt: skip
+            try:
+                page = ctx.new_page()
+                page.goto(f"{base}/lab/tree/review_probe.ipynb?token={token}")
+                lab = Lab(page, root)
+                _wait_kernel(lab)
+                page.evaluate("() => window.jupyterapp.commands.execute('notebook:run-all-cells')")
+                page.wait_for_selector(".cdfsketch-review-cdf .curve .line", timeout=120_000)
+                page.screenshot(path=str(root.parent / "review-lab-first.png"))
+                # close the left sidebar: the board gets the width a reviewer would give it
+                page.evaluate(
+                    "() => { const s = window.jupyterapp.shell; if (!s.leftCollapsed) "
+                    "s.collapseLeft(); }"
+                )
+                page.wait_for_timeout(500)
+                yield lab
+            finally:
+                ctx.close()
+    finally:
+        server.terminate()
+        try:
+            server.wait(timeout=10)
+        except subprocess.TimeoutExpired:
+            server.kill()
+            server.wait()
+        log.close()
+        shutil.rmtree(root / ".ipynb_checkpoints", ignore_errors=True)
