@@ -139,10 +139,7 @@ def readout_html(r: dict[str, Any], data: DataView | None, sketch: Sketch) -> st
                     f"{significant(r['logscore'], 4)} per point ({data.held_size} held out{zero})",
                 )
             )
-    cells = [
-        tag("tr", tag("td", k, cls="cdfsketch-key"), tag("td", v))
-        for k, v in rows
-    ]
+    cells = [tag("tr", tag("td", k, cls="cdfsketch-key"), tag("td", v)) for k, v in rows]
     for text in r["warnings"]:
         cells.append(tag("tr", tag("td", "check", cls="cdfsketch-key cdfsketch-warn"),
                          tag("td", text, cls="cdfsketch-warn", title=text)))  # fmt: skip
