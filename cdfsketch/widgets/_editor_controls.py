@@ -68,7 +68,7 @@ class Controls:
     def __init__(self, *, has_data: bool, default_path: str) -> None:
         self.interp = w.ToggleButtons(
             options=[("linear", "linear"), ("monotone cubic", "pchip")],
-            style={"button_width": "112px"},
+            style={"button_width": "128px"},
         )
         self.interp.add_class("cdfsketch-interpolation")
         self.pick = w.Dropdown(

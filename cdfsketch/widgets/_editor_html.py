@@ -78,7 +78,10 @@ CSS = f"""
 .cdfsketch-editor table.cdfsketch-readout-table td {{ padding: 0 8px 0 0; height: 18px;
   line-height: 18px; white-space: nowrap; vertical-align: top; }}
 .cdfsketch-editor table.cdfsketch-readout-table td.cdfsketch-key {{ color: #555; }}
-.cdfsketch-editor .cdfsketch-readout {{ overflow-x: auto; }}
+.cdfsketch-editor .cdfsketch-readout {{ overflow: hidden; }}
+.cdfsketch-editor table.cdfsketch-readout-table td {{ max-width: 190px; overflow: hidden;
+  text-overflow: ellipsis; }}
+.cdfsketch-editor .cdfsketch-checks {{ font-size: 12px; line-height: 16px; }}
 .cdfsketch-editor .cdfsketch-group {{ border: 1px solid #ddd; border-radius: 4px;
   padding: 2px 6px 4px 6px; margin: 0 6px 6px 0; }}
 .cdfsketch-editor .cdfsketch-group-title {{ font-weight: 600; font-size: 12px; color: #333; }}

@@ -19,7 +19,7 @@ from ..tails import BoundedTail
 from ._editor_data import DataView
 from ._editor_html import raw, tag
 
-__all__ = ["CAUTION", "readout", "readout_html", "tail_text", "warnings"]
+__all__ = ["CAUTION", "checks_html", "readout", "readout_html", "tail_text", "warnings"]
 
 CAUTION = (
     "A sketch is a judgement, to be reviewed before use; local codes and licensed practice "
@@ -37,14 +37,14 @@ def tail_text(sketch: Sketch, side: int, data: DataView | None = None) -> str:
     u = f" {sketch.units}" if sketch.units else ""
     if mass <= 0:
         edge = _x(sketch.x[-1 if side else 0], data)
-        return f"none: support ends at {edge}{u}"
+        return f"none: ends at {edge}{u}"
     tail = (sketch.lower_tail, sketch.upper_tail)[side]
     if isinstance(tail, BoundedTail):
         shape = "uniform" if tail.density == "uniform" else "tapering"
-        return f"bounded at {_x(tail.limit, data)}{u}, {shape}"
+        return f"bounded at {_x(tail.limit, data)}{u} ({shape})"
     scale = sketch.tail_scales[side]
     how = "stated" if tail.scale is not None else "derived"
-    return f"exponential, {how} scale {_x(scale, data)}{u}"
+    return f"exponential, scale {_x(scale, data)}{u} ({how})"
 
 
 def _mass_beyond(sketch: Sketch, data: DataView | None) -> tuple[float, float]:
@@ -108,21 +108,23 @@ def warnings(sketch: Sketch, data: DataView | None, r: dict[str, Any]) -> list[s
 
 
 def readout_html(r: dict[str, Any], data: DataView | None, sketch: Sketch) -> str:
-    """Readout as a small HTML table: one fixed-height line per row."""
+    """The readout's numbers as a small HTML table: short rows of one fixed-height line."""
     u = f" {sketch.units}" if sketch.units else ""
+    qs = r["quantiles"]
     rows: list[tuple[str, str | raw]] = [
         ("mean · sd", f"{_x(r['mean'], data)} · {_x(r['sd'], data)}{u}"),
         (
-            "quantiles",
-            ", ".join(f"q{100 * q:g} {_x(v, data)}" for q, v in r["quantiles"].items()) + u,
+            " · ".join(f"q{100 * q:g}" for q in qs),
+            " · ".join(_x(v, data) for v in qs.values()) + u,
         ),
     ]
     for side, label in ((0, "lower tail"), (1, "upper tail")):
-        mass = significant(r["tail_mass"][side], 3)
-        rows.append((label, f"mass {mass}; {r['tail_model'][side]}"))
+        mass = r["tail_mass"][side]
+        text = r["tail_model"][side]
+        rows.append((label, text if mass <= 0 else f"{significant(100 * mass, 2)} %, {text}"))
     if data is not None:
         tol = r["tolerance"]
-        how = "exact" if tol == 0 else f"fast, ≤ {significant(tol, 2)} low"
+        how = "exact" if tol == 0 else f"≤ {significant(tol, 2)} low"
         rows.append(("KS distance", f"{significant(r['ks'], 3)} ({how})"))
         exc = r["excursion"]
         where = (
@@ -132,15 +134,20 @@ def readout_html(r: dict[str, Any], data: DataView | None, sketch: Sketch) -> st
         )
         rows.append((f"{data.level:.0%} band", where))
         if "logscore" in r:
-            zero = f", {r['n_outside']} at zero density" if r["n_outside"] else ""
-            rows.append(
-                (
-                    "holdout score",
-                    f"{significant(r['logscore'], 4)} per point ({data.held_size} held out{zero})",
-                )
-            )
-    cells = [tag("tr", tag("td", k, cls="cdfsketch-key"), tag("td", v)) for k, v in rows]
-    for text in r["warnings"]:
-        cells.append(tag("tr", tag("td", "check", cls="cdfsketch-key cdfsketch-warn"),
-                         tag("td", text, cls="cdfsketch-warn", title=text)))  # fmt: skip
+            zero = f", {r['n_outside']} at density 0" if r["n_outside"] else ""
+            rows.append(("holdout score", f"{significant(r['logscore'], 4)} /point{zero}"))
+    cells = [
+        tag(
+            "tr",
+            tag("td", k, cls="cdfsketch-key"),
+            tag("td", v, title=None if isinstance(v, raw) else v),
+        )
+        for k, v in rows
+    ]
     return tag("table", *cells, cls="cdfsketch-readout-table")
+
+
+def checks_html(r: dict[str, Any]) -> str:
+    """The readout's warnings, one per line (empty when there is none)."""
+    lines = [tag("div", f"check: {text}", cls="cdfsketch-warn") for text in r["warnings"]]
+    return tag("div", *lines, cls="cdfsketch-checks") if lines else ""

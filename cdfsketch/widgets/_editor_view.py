@@ -166,13 +166,13 @@ class Plots:
         self.cdf_figure = bq.Figure(
             marks=cdf_marks, axes=[ax_x, ax_y],
             fig_margin={"top": 8, "bottom": 40, **_SIDE_MARGINS},
-            layout=w.Layout(width="100%", height="320px", min_width="320px"),
+            layout=w.Layout(width="100%", height="300px", min_width="320px"),
             background_style={"fill": "white"}, **common,
         )  # fmt: skip
         self.pdf_figure = bq.Figure(
             marks=pdf_marks, axes=[ax_x2, self.ax_d, self.ax_m],
             fig_margin={"top": 8, "bottom": 40, **_SIDE_MARGINS},
-            layout=w.Layout(width="100%", height="190px", min_width="320px"), **common,
+            layout=w.Layout(width="100%", height="180px", min_width="320px"), **common,
         )  # fmt: skip
         self.cdf_figure.add_class("cdfsketch-cdf")
         self.pdf_figure.add_class("cdfsketch-pdf")

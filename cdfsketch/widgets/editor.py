@@ -41,7 +41,7 @@ from ._editor_controls import GUIDE, Controls, group
 from ._editor_data import DataView, automatic_start
 from ._editor_html import CSS, raw, tag
 from ._editor_input import EditorInput
-from ._editor_readout import CAUTION, readout, readout_html
+from ._editor_readout import CAUTION, checks_html, readout, readout_html
 from ._editor_state import History, State, check_locks, slug
 from ._editor_table import KnotTable, TailControl
 from ._editor_view import Plots
@@ -157,6 +157,8 @@ class Editor(EditorInput, w.VBox):
         self.message.add_class("cdfsketch-message")
         self._readout_html = w.HTML()
         self._readout_html.add_class("cdfsketch-readout")
+        self._checks_html = w.HTML()
+        self._checks_html.add_class("cdfsketch-checks")
         self._refresh_candidates()
         super().__init__(self._layout())
         self.add_class("cdfsketch-editor")
@@ -209,7 +211,7 @@ class Editor(EditorInput, w.VBox):
             layout=w.Layout(flex="1 1 560px", min_width="0"),
         )
         right = w.VBox(
-            [c.shape, self.message, self._readout_html, self.table.box],
+            [c.shape, self.message, self._readout_html, self.table.box, self._checks_html],
             layout=w.Layout(flex="0 0 300px", width="300px", margin="0 0 0 6px"),
         )
         right.add_class("cdfsketch-side")
@@ -304,6 +306,9 @@ class Editor(EditorInput, w.VBox):
             html_ = readout_html(r, d, s)
             if self._readout_html.value != html_:
                 self._readout_html.value = html_
+            checks = checks_html(r)
+            if self._checks_html.value != checks:
+                self._checks_html.value = checks
 
     def _draw_controls(self, st: State) -> None:
         c = self.controls

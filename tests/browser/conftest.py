@@ -198,7 +198,7 @@ def open_probe(server: Server, frontend: str) -> Iterator[Page]:
         probe = Page(page, folder, frontend)
         _wait_kernel(probe)
         page.evaluate("() => window.jupyterapp.commands.execute('notebook:run-all-cells')")
-        page.wait_for_selector(".cdfsketch-cdf .object_grp", timeout=90_000)
+        page.wait_for_selector(".cdfsketch-cdf .object_grp", state="attached", timeout=90_000)
         for _ in range(200):
             if (folder / "state.json").exists():
                 break

@@ -159,7 +159,7 @@ def _axes(axes: list) -> tuple[np.ndarray, np.ndarray]:
 
 
 def show_cdf_panel(lab) -> None:
-    lab.page.locator(".cdfsketch-cdf").first.evaluate("e => e.scrollIntoView({block: 'center'})")
+    lab.page.locator(".cdfsketch-plots").first.evaluate("e => e.scrollIntoView({block: 'start'})")
 
 
 def gesture(lab, i: int, dx: float, dy: float, steps: int = 4, g: Geometry | None = None) -> None:

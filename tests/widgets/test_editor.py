@@ -260,7 +260,7 @@ def test_a_sketch_without_tails_says_so_and_gets_a_tail_from_the_controls(hours)
     ed = Editor(hours, units="h")
     assert ed.sketch.tail_mass == (0.0, 0.0)
     assert any("no upper tail" in w for w in ed.readout["warnings"])
-    assert ed.readout["tail_model"][1].startswith("none: support ends at")
+    assert ed.readout["tail_model"][1].startswith("none: ends at")
     upper = ed._tails[1]
     assert upper.kind.value == "none"  # no "scale 0" for an empty tail
     upper.kind.value = "exp-derived"
