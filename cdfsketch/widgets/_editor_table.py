@@ -12,7 +12,7 @@ from collections.abc import Callable
 
 import ipywidgets as w
 
-from .._numfmt import at_resolution
+from .._numfmt import at_resolution, significant
 from .._validate import InputError, number
 from ..sketch import Sketch
 from ..tails import BoundedTail, ExponentialTail, Tail
@@ -167,6 +167,7 @@ class TailControl:
         self._quiet = False
         self._default_limit = 0.0
         self._mass = 0.0
+        self._exact = (0.0, 0.0)
         self._units = f" ({units})" if units else ""
         self.kind = w.Dropdown(
             options=_TAIL_KINDS, description=f"{side}",
@@ -193,7 +194,7 @@ class TailControl:
         self._quiet = True
         try:
             self._mass = mass
-            self.mass.value = round(mass, 6)
+            self.mass.value = round(mass, 4)
             if mass <= 0:
                 self.kind.value = "none"
                 self.value.description = ""
@@ -201,14 +202,14 @@ class TailControl:
                 self.value.layout.visibility = "hidden"
             elif isinstance(tail, BoundedTail):
                 self.kind.value = f"bounded-{tail.density}"
-                self.value.value = tail.limit
+                self._show_value(tail.limit, 6)
                 self.value.description = f"limit{self._units}"
                 self.value.disabled = False
                 self.value.layout.visibility = "visible"
             else:
                 self.kind.value = "exp-derived" if tail.scale is None else "exp-stated"
                 scale = sketch.tail_scales[i] if tail.scale is None else tail.scale
-                self.value.value = float(scale) if scale is not None else 1.0
+                self._show_value(scale if scale is not None else 1.0, 4)
                 self.value.description = f"scale{self._units}"
                 self.value.disabled = tail.scale is None
                 self.value.layout.visibility = "visible"
@@ -216,6 +217,11 @@ class TailControl:
         finally:
             self._quiet = False
         self._default_limit = default_limit
+
+    def _show_value(self, exact: float, digits: int) -> None:
+        """Show ``exact`` rounded; reading the field back gives ``exact`` while unedited."""
+        self._exact = (float(significant(exact, digits)), float(exact))
+        self.value.value = self._exact[0]
 
     def _changed(self, change: dict) -> None:
         if self._quiet:
@@ -234,7 +240,8 @@ class TailControl:
 
     def _read(self, kind_changed: bool) -> Tail:
         kind = self.kind.value
-        v = float(self.value.value)
+        shown, exact = self._exact
+        v = exact if self.value.value == shown else float(self.value.value)
         if kind in ("none", "exp-derived"):
             return ExponentialTail()
         if kind == "exp-stated":

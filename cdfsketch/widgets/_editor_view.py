@@ -66,7 +66,7 @@ def density_top(pdf: np.ndarray, hist_max: float) -> tuple[float, bool]:
     positive = pdf[pdf > 0]
     typical = float(np.percentile(positive, 95)) if positive.size else 0.0
     cap = 4.0 * max(hist_max, typical)
-    if cap > 0 and peak > cap:
+    if cap > 0 and peak > cap * 1.05:
         return cap * 1.05, True
     return (max(hist_max, peak) * 1.12) or 1.0, False
 

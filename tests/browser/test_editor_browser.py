@@ -150,7 +150,11 @@ def _axes(axes: list) -> tuple[np.ndarray, np.ndarray]:
     """The first horizontal and vertical axis, as rows ``(value, screen x, screen y)``."""
     out = []
     for ax in axes:
-        rows = [(float(t.replace("\u2212", "-").replace(",", "")), cx, cy) for cx, cy, t in ax]
+        rows = [
+            (float(t.replace("\u2212", "-").replace(",", "")), cx, cy)
+            for cx, cy, t in ax
+            if t.strip()  # an unlabelled tick (d3 leaves some empty) names no value
+        ]
         out.append(np.array(rows, dtype=float).reshape(-1, 3))
     out = [a for a in out if a.shape[0] >= 2]
     horizontal = [a for a in out if np.ptp(a[:, 1]) > np.ptp(a[:, 2])]

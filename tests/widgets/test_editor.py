@@ -554,3 +554,12 @@ def test_density_axis_is_cut_below_a_near_vertical_stretch():
     spiky[100] = 2.4e5  # one knot pair almost on top of each other
     top, cut = density_top(spiky, 0.12)
     assert cut and top < 1.0
+
+
+def test_tail_fields_show_rounded_values_and_keep_the_exact_ones(five):
+    s = five.replace(p=[0.0, 0.3, 0.6, 0.9, 0.95], upper_tail=ExponentialTail(scale=24.123456789))
+    ed = Editor(sketch=s)
+    upper = ed._tails[1]
+    assert upper.value.value == 24.12  # four significant digits shown
+    upper.mass.value = 0.04  # another field edited: the stated scale is kept exactly
+    assert ed.sketch.upper_tail.scale == 24.123456789 and ed.sketch.p[-1] == pytest.approx(0.96)
