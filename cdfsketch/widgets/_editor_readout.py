@@ -41,10 +41,10 @@ def tail_text(sketch: Sketch, side: int, data: DataView | None = None) -> str:
     tail = (sketch.lower_tail, sketch.upper_tail)[side]
     if isinstance(tail, BoundedTail):
         shape = "uniform" if tail.density == "uniform" else "tapering"
-        return f"bounded at {_x(tail.limit, data)}{u} ({shape})"
+        return f"bounded at {_x(tail.limit, data)}{u}, {shape}"
     scale = sketch.tail_scales[side]
     how = "stated" if tail.scale is not None else "derived"
-    return f"exponential, scale {_x(scale, data)}{u} ({how})"
+    return f"exp. scale {_x(scale, data)}{u}, {how}"
 
 
 def _mass_beyond(sketch: Sketch, data: DataView | None) -> tuple[float, float]:

@@ -215,7 +215,7 @@ class Plots:
                 self.ax_d.tick_values = ticks
             note = (
                 f"density axis cut at {top:.3g}: the sketch peaks at {float(pdf.max()):.3g} "
-                "where two knots are close"
+                "where the curve is steepest"
                 if clipped
                 else ""
             )

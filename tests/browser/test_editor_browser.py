@@ -162,8 +162,30 @@ def _axes(axes: list) -> tuple[np.ndarray, np.ndarray]:
     return horizontal[0], vertical[0]
 
 
-def show_cdf_panel(lab) -> None:
+DOTS_JS = (
+    "() => { "
+    + GROUPS_JS
+    + """ return [...knotGroups().movable.querySelectorAll('.object_grp .dot')].map(e => {
+  const r = e.getBoundingClientRect(); return [r.x + r.width / 2, r.y + r.height / 2]; }); }"""
+)
+
+
+def dots(lab) -> np.ndarray:
+    """Screen centres of the movable knots (one light evaluation)."""
+    return np.array(lab.page.evaluate(DOTS_JS), dtype=float).reshape(-1, 2)
+
+
+def show_cdf_panel(lab, timeout: float = 10.0) -> None:
+    """Scroll the plots to the top of the view and wait until the dots stop moving."""
     lab.page.locator(".cdfsketch-plots").first.evaluate("e => e.scrollIntoView({block: 'start'})")
+    end = time.monotonic() + timeout
+    last = dots(lab)
+    while time.monotonic() < end:
+        time.sleep(0.15)
+        now = dots(lab)
+        if now.shape == last.shape and np.allclose(now, last, atol=0.01):
+            return
+        last = now
 
 
 def gesture(lab, i: int, dx: float, dy: float, steps: int = 4, g: Geometry | None = None) -> None:
@@ -270,8 +292,9 @@ class TestJupyterLab:
         done = 0
         for _burst in range(6):
             show_cdf_panel(lab)
+            g = Geometry(lab)  # the plot area; the dots are read again before each gesture
             for _ in range(50):
-                g = Geometry(lab)
+                g.dots = dots(lab)
                 i = int(rng.integers(0, len(g.dots)))
                 gesture(lab, i, *rng.normal(0, 60, 2), steps=2, g=g)
                 done += 1
