@@ -94,7 +94,7 @@ class Controls:
             opts.append(("automatic start", "auto"))
         self.start = w.Dropdown(options=opts, layout=w.Layout(width="340px"))
         self.start.add_class("cdfsketch-start")
-        self.start_over = _button("start over", "start", "replace the sketch (undoable)")
+        self.start_over = _button("start over", "start-over", "replace the sketch (undoable)")
         start_row = [self.start, self.start_over]
         self.fit = _button("fit candidates", "fit", "fit the usual distributions to the data")
         if has_data:

@@ -296,7 +296,7 @@ class TestJupyterLab:
             for _ in range(50):
                 g.dots = dots(lab)
                 i = int(rng.integers(0, len(g.dots)))
-                gesture(lab, i, *rng.normal(0, 60, 2), steps=2, g=g)
+                gesture(lab, i, *rng.normal(0, 60, 2), steps=1, g=g)
                 done += 1
             kx, kp = settled(lab)  # loads and checks the autosaved spec
             cdfsketch.check_knots(kx, kp)
@@ -307,8 +307,10 @@ class TestJupyterLab:
         page = lab.page
         # back to the sketch the editor opened, whatever earlier tests did
         page.locator(".cdfsketch-start select").select_option(label="as opened")
-        click_button(lab, "start")
+        click_button(lab, "start-over")
         x0, p0 = settled(lab)
+        # the probe's sketch, whatever earlier tests did to it
+        assert p0.tolist() == [0.0, 0.1, 0.25, 0.5, 0.75, 0.9, 1.0]
         n0 = x0.size
         click_button(lab, "add")  # no knot selected: the middle of the widest step in p
         x1, _p1 = settled(lab)
