@@ -71,7 +71,8 @@ CSS = f"""
 .cdfsketch-editor .cdfsketch-warn {{ color: {palette.KNOT_OUTSIDE_BAND}; }}
 .cdfsketch-editor .cdfsketch-ok {{ color: #333; }}
 .cdfsketch-editor .cdfsketch-error {{ color: {palette.KNOT_OUTSIDE_BAND}; font-size: 12px;
-  min-height: 18px; line-height: 18px; }}
+  line-height: 18px; }}
+.cdfsketch-editor .cdfsketch-message {{ min-height: 18px; margin: 0; }}
 .cdfsketch-editor .cdfsketch-legend {{ font-size: 11.5px; color: #444; line-height: 18px; }}
 .cdfsketch-editor .cdfsketch-legend span {{ margin-right: 12px; white-space: nowrap; }}
 .cdfsketch-editor .cdfsketch-swatch {{ vertical-align: middle; margin-right: 3px; }}

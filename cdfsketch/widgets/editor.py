@@ -204,6 +204,7 @@ class Editor(EditorInput, w.VBox):
         left = w.VBox(
             [
                 self.plots.legend,
+                self.message,
                 self.plots.cdf_figure,
                 self.plots.pdf_figure,
                 self.plots.density_note,
@@ -211,7 +212,7 @@ class Editor(EditorInput, w.VBox):
             layout=w.Layout(flex="1 1 560px", min_width="0"),
         )
         right = w.VBox(
-            [c.shape, self.message, self._readout_html, self.table.box, self._checks_html],
+            [c.shape, self._readout_html, self.table.box, self._checks_html],
             layout=w.Layout(flex="0 0 300px", width="300px", margin="0 0 0 6px"),
         )
         right.add_class("cdfsketch-side")
