@@ -41,7 +41,7 @@ AUTO_KNOTS = 7
 #: vertices of the drawn ECDF outline (and of the band); 1/300 tolerance in p
 OUTLINE_POINTS = 1200
 #: held-out points scored on each change; more are subsampled (seeded)
-HOLDOUT_LIVE = 20_000
+HOLDOUT_LIVE = 5_000
 
 
 class DataView:
