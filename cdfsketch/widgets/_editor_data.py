@@ -27,16 +27,21 @@ from typing import Any
 
 import numpy as np
 
+from .. import _streams
 from ..empirical import ECDF, as_data
+from ..holdout import holdout_split
 from ..sketch import Sketch
 from ..spec import data_fingerprint
 
-__all__ = ["DataView"]
+__all__ = ["AUTO_KNOTS", "DataView", "automatic_start"]
+
+#: knot budget of the automatic start
+AUTO_KNOTS = 7
 
 #: vertices of the drawn ECDF outline (and of the band); 1/300 tolerance in p
 OUTLINE_POINTS = 1200
 #: held-out points scored on each change; more are subsampled (seeded)
-HOLDOUT_LIVE = 20_000
+HOLDOUT_LIVE = 5_000
 
 
 class DataView:
@@ -51,11 +56,11 @@ class DataView:
     holdout : float or None
         Fraction of the points held out for the live log score (``None`` or 0:
         no holdout score).
-    seed : int
-        Seed of the holdout split (made once).
+    rng : optional
+        Seed of the holdout split (:func:`cdfsketch.holdout.holdout_split`, made once).
     """
 
-    def __init__(self, data: Any, *, level: float, holdout: float | None, seed: int) -> None:
+    def __init__(self, data: Any, *, level: float, holdout: float | None, rng: Any) -> None:
         x = as_data(data)
         self.values = x
         # one sort here: ECDF skips its own sort on sorted input
@@ -84,7 +89,7 @@ class DataView:
         counts = np.diff(idx)
         self.hist_edges = edges
         self.hist_density = counts / (self.n * np.diff(edges))
-        # seeded holdout split, made once
+        # the one holdout split (as compare() makes it), made once
         self.holdout = float(holdout or 0.0)
         self.held: np.ndarray | None = None
         self.held_size = 0
@@ -94,15 +99,16 @@ class DataView:
                     f"holdout must be a fraction in (0, 1) or None; got {holdout!r}. "
                     "For example holdout=0.3."
                 )
-            gen = np.random.default_rng(seed)
-            k = round(self.holdout * self.n)
-            if k >= 1:
-                if k <= HOLDOUT_LIVE:
-                    pick = gen.choice(self.n, size=k, replace=False)
-                else:
-                    pick = gen.choice(self.n, size=HOLDOUT_LIVE, replace=False)
-                self.held = np.sort(x[pick])
-                self.held_size = int(k)
+            _train, test = holdout_split(self.n, fraction=self.holdout, rng=rng)
+            if test.size:
+                if test.size > HOLDOUT_LIVE:
+                    gen = _streams.generator(_streams.root_seed(rng), "holdout", "live")
+                    test = gen.choice(test, size=HOLDOUT_LIVE, replace=False)
+                self.held = np.sort(x[test])
+                self.held_size = round(self.holdout * self.n)
+        self.resolution = _resolution(x[:5000], float(xs[-1] - xs[0]))
+        self.floor = 0.0 if xs[0] >= 0 else None
+        self.ceiling = 1.0 if xs[0] >= 0 and xs[-1] <= 1 else None
         self._fingerprint: dict[str, Any] | None = None
 
     @property
@@ -150,8 +156,12 @@ def log_score(sketch: Sketch, y: np.ndarray) -> tuple[float, int, int]:
     in the mean) and the number of points at atoms. The same convention as
     :func:`cdfsketch.metrics.compare` (counting measure at atoms).
     """
+    # a point at the last knot of a sketch without upper tail mass is inside the support:
+    # it gets the density just below that knot (the density is right-continuous)
+    end = float(sketch.x[-1])
+    at_end = np.nextafter(end, -np.inf) if sketch.tail_mass[1] <= 0 else end
     with np.errstate(divide="ignore"):
-        s = np.log(np.asarray(sketch.pdf(y), dtype=float))
+        s = np.log(np.asarray(sketch.pdf(np.where(y == end, at_end, y)), dtype=float))
     hits = 0
     for a in sketch.atoms:
         at = y == a.x
@@ -159,3 +169,52 @@ def log_score(sketch: Sketch, y: np.ndarray) -> tuple[float, int, int]:
         s[at] = math.log(a.mass)
     outside = int(np.count_nonzero(np.isneginf(s)))
     return float(np.mean(s)), outside, hits
+
+
+def _resolution(sample: np.ndarray, span: float) -> float:
+    """The step the values are recorded to (a power of ten), or a tenth of a per mille of the span.
+
+    Examples
+    --------
+    >>> _resolution(np.array([1.5, 2.25, 7.0]), 5.5), _resolution(np.array([3.0, 12.0]), 9.0)
+    (0.01, 1.0)
+    """
+    v = sample[np.isfinite(sample)]
+    for k in range(7):
+        scaled = v * 10.0**k
+        if np.all(np.abs(scaled - np.round(scaled)) <= 1e-9 * np.maximum(1.0, np.abs(scaled))):
+            return 10.0**-k
+    return 10.0 ** (math.floor(math.log10(span)) - 4) if span > 0 else 1e-4
+
+
+def automatic_start(view: DataView, *, budget: int = AUTO_KNOTS) -> Sketch:
+    """The automatic starting sketch: at most ``budget`` knots along the data's ECDF.
+
+    Greedy: from the sample's minimum (p = 0) and maximum (p = 1), add a knot
+    where the piecewise-linear curve is farthest from the ECDF, in the middle
+    of the ECDF's step there, until the curve is within half the band's width
+    or ``budget`` knots are used. The ends are the data's extremes: the sketch
+    has no tail mass until one is added (the readout says so).
+    """
+    xs = view.kept_x
+    hi, lo = view.kept_p, view.kept_p_left  # F_n at and just below each kept point
+    kx = [float(view.sorted[0]), float(view.sorted[-1])]
+    kp = [0.0, 1.0]
+    if kx[0] == kx[1]:
+        kx[1] = kx[0] + 1.0
+    while len(kx) < budget:
+        g = np.interp(xs, kx, kp)
+        dev = np.maximum(np.abs(hi - g), np.abs(lo - g))
+        dev[np.isin(xs, kx)] = 0.0
+        j = int(np.argmax(dev))
+        if dev[j] <= 0.5 * view.band.eps:
+            break
+        at = int(np.searchsorted(kx, xs[j]))
+        p = float(np.clip(0.5 * (lo[j] + hi[j]), kp[at - 1], kp[at]))
+        kx.insert(at, float(xs[j]))
+        kp.insert(at, p)
+    provenance = {
+        "method": f"automatic start: at most {budget} knots along the ECDF",
+        "data": view.fingerprint,
+    }
+    return Sketch(kx, kp, provenance=provenance)

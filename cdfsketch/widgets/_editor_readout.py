@@ -1,44 +1,59 @@
-"""The editor's readout: numbers about the current sketch, and their HTML."""
+"""The editor's readout: numbers about the current sketch, its warnings, and their HTML.
+
+Every line of the readout has a fixed height (one line, no wrapping: long
+text scrolls sideways inside the side column), so a changing value never
+moves the knot table below it. Numbers in data units are shown to the
+data's resolution (:func:`cdfsketch._numfmt.at_resolution`), probabilities
+and scores to a few significant digits.
+"""
 
 from __future__ import annotations
 
-import html
-import math
 from typing import Any
 
 import numpy as np
 
+from .._numfmt import at_resolution, significant
 from ..sketch import Sketch
 from ..tails import BoundedTail
-from . import palette
 from ._editor_data import DataView
+from ._editor_html import raw, tag
 
-__all__ = ["CAUTION", "readout", "readout_html", "tail_text"]
+__all__ = ["CAUTION", "checks_html", "readout", "readout_html", "tail_text", "warnings"]
 
 CAUTION = (
-    "A sketch is a judgement, to be reviewed before use; local codes and licensed "
-    "practice decide what is acceptable."
+    "A sketch is a judgement, to be reviewed before use; local codes and licensed practice "
+    "decide what is acceptable."
 )
 
 
-def _fmt(v: float) -> str:
-    if v is None or (isinstance(v, float) and math.isnan(v)):
-        return "–"
-    if math.isinf(v):
-        return "∞" if v > 0 else "−∞"
-    return f"{v:.4g}"
+def _x(v: float, data: DataView | None) -> str:
+    return at_resolution(v, None if data is None else data.resolution)
 
 
-def tail_text(sketch: Sketch, side: int) -> str:
-    """Which tail model holds the mass beyond the outer knot on ``side`` (0 lower, 1 upper)."""
+def tail_text(sketch: Sketch, side: int, data: DataView | None = None) -> str:
+    """The tail beyond the outer knot on ``side`` (0 lower, 1 upper), in words with units."""
+    mass = sketch.tail_mass[side]
+    u = f" {sketch.units}" if sketch.units else ""
+    if mass <= 0:
+        edge = _x(sketch.x[-1 if side else 0], data)
+        return f"none: ends at {edge}{u}"
     tail = (sketch.lower_tail, sketch.upper_tail)[side]
     if isinstance(tail, BoundedTail):
-        return f"bounded at {_fmt(tail.limit)} ({tail.density})"
+        shape = "uniform" if tail.density == "uniform" else "tapering"
+        return f"bounded at {_x(tail.limit, data)}{u}, {shape}"
     scale = sketch.tail_scales[side]
     how = "stated" if tail.scale is not None else "derived"
-    if scale is None:
-        return f"exponential ({how} scale)"
-    return f"exponential, scale {_fmt(scale)} ({how})"
+    return f"exp. scale {_x(scale, data)}{u}, {how}"
+
+
+def _mass_beyond(sketch: Sketch, data: DataView | None) -> tuple[float, float]:
+    """Mass below the data's natural floor and above its ceiling (0 when there is none)."""
+    if data is None:
+        return 0.0, 0.0
+    below = float(sketch.cdf(data.floor)) if data.floor is not None else 0.0
+    above = float(sketch.sf(data.ceiling)) if data.ceiling is not None else 0.0
+    return below, above
 
 
 def readout(
@@ -55,7 +70,7 @@ def readout(
             zip(quantiles, np.atleast_1d(sketch.ppf(quantiles)).tolist(), strict=True)
         ),
         "tail_mass": tuple(float(m) for m in sketch.tail_mass),
-        "tail_model": (tail_text(sketch, 0), tail_text(sketch, 1)),
+        "tail_model": (tail_text(sketch, 0, data), tail_text(sketch, 1, data)),
         "knots": len(sketch),
     }
     if data is not None:
@@ -65,65 +80,74 @@ def readout(
         out["knots_outside_band"] = int(np.count_nonzero(outside))
         out["holdout_points"] = 0 if data.held is None else int(data.held.size)
         out["holdout_subsampled"] = data.live_subsampled
+        out["mass_below_floor"], out["mass_above_ceiling"] = _mass_beyond(sketch, data)
+    out["warnings"] = warnings(sketch, data, out)
     return out
 
 
-def readout_html(r: dict[str, Any], data: DataView | None, units: str) -> str:
-    """Readout as a small HTML block (calm type, warnings in the warning colour)."""
-    u = f" {html.escape(units)}" if units else ""
-    rows = [
-        ("mean", f"{_fmt(r['mean'])}{u}"),
-        ("sd", f"{_fmt(r['sd'])}{u}"),
-    ]
-    qs = ", ".join(f"q{100 * q:g} {_fmt(v)}" for q, v in r["quantiles"].items())
-    rows.append(("quantiles", f"{qs}{u}"))
-    for side, label in ((0, "lower tail"), (1, "upper tail")):
-        rows.append(
-            (label, f"mass {r['tail_mass'][side]:.3g}, {html.escape(r['tail_model'][side])}")
+def warnings(sketch: Sketch, data: DataView | None, r: dict[str, Any]) -> list[str]:
+    """Plain-language warnings about the sketch (each one line), most serious first."""
+    u = f" {sketch.units}" if sketch.units else ""
+    out = []
+    if r.get("mass_below_floor", 0) > 0:
+        out.append(
+            f"{significant(100 * r['mass_below_floor'], 2)} % of the mass is below 0, "
+            "though every observation is ≥ 0"
         )
+    if r.get("mass_above_ceiling", 0) > 0:
+        out.append(
+            f"{significant(100 * r['mass_above_ceiling'], 2)} % of the mass is above 1, "
+            "though every observation is ≤ 1"
+        )
+    if r.get("knots_outside_band"):
+        out.append(f"{r['knots_outside_band']} knot(s) outside the band (drawn in red)")
+    if data is not None and sketch.tail_mass[1] <= 0:
+        top = _x(sketch.x[-1], data)
+        out.append(f"no upper tail: a simulation never draws above {top}{u}; add one under 'tails'")
+    return out
+
+
+def readout_html(r: dict[str, Any], data: DataView | None, sketch: Sketch) -> str:
+    """The readout's numbers as a small HTML table: short rows of one fixed-height line."""
+    u = f" {sketch.units}" if sketch.units else ""
+    qs = r["quantiles"]
+    rows: list[tuple[str, str | raw]] = [
+        ("mean · sd", f"{_x(r['mean'], data)} · {_x(r['sd'], data)}{u}"),
+        (
+            " · ".join(f"q{100 * q:g}" for q in qs),
+            " · ".join(_x(v, data) for v in qs.values()) + u,
+        ),
+    ]
+    for side, label in ((0, "lower tail"), (1, "upper tail")):
+        mass = r["tail_mass"][side]
+        text = r["tail_model"][side]
+        rows.append((label, text if mass <= 0 else f"{significant(100 * mass, 2)} %, {text}"))
     if data is not None:
         tol = r["tolerance"]
-        how = "exact" if tol == 0 else f"fast: the exact value is up to {tol:.2g} higher"
-        rows.append(("KS distance", f"{r['ks']:.4f} ({how})"))
+        how = "exact" if tol == 0 else f"≤ {significant(tol, 2)} low"
+        rows.append(("KS distance", f"{significant(r['ks'], 3)} ({how})"))
         exc = r["excursion"]
-        inside = exc <= 0
-        colour = palette.DATA if inside else palette.KNOT_OUTSIDE_BAND
-        where = "inside" if inside else "outside"
-        rows.append(
-            (
-                f"{data.level:.0%} band",
-                f"<span style='color:{colour}'>{where}</span> (largest excursion {exc:+.4f})",
-            )
+        where = (
+            tag("span", "inside", cls="cdfsketch-ok")
+            if exc <= 0
+            else tag("span", f"outside by {significant(exc, 2)}", cls="cdfsketch-warn")
         )
-        n_out = r["knots_outside_band"]
-        if n_out:
-            rows.append(
-                (
-                    "knots",
-                    f"<span style='color:{palette.KNOT_OUTSIDE_BAND}'>{n_out} outside the band"
-                    "</span>",
-                )
-            )
+        rows.append((f"{data.level:.0%} band", where))
         if "logscore" in r:
-            sub = (
-                f", a seeded subsample of {r['holdout_points']} of {data.held_size}"
-                if r["holdout_subsampled"]
-                else ""
-            )
-            extra = f"; {r['n_outside']} at zero density" if r["n_outside"] else ""
-            rows.append(
-                (
-                    "holdout log score",
-                    f"{_fmt(r['logscore'])} per point ({data.held_size} held-out points{sub}"
-                    f"{extra}; seen while drawing, so optimistic)",
-                )
-            )
-    body = "".join(
-        f"<tr><td style='padding:1px 10px 1px 0;color:{palette.DATA}'>{k}</td>"
-        f"<td style='padding:1px 0'>{v}</td></tr>"
+            zero = f", {r['n_outside']} at density 0" if r["n_outside"] else ""
+            rows.append(("holdout score", f"{significant(r['logscore'], 4)} /point{zero}"))
+    cells = [
+        tag(
+            "tr",
+            tag("td", k, cls="cdfsketch-key"),
+            tag("td", v, title=None if isinstance(v, raw) else v),
+        )
         for k, v in rows
-    )
-    return (
-        f"<div style='font-family:{palette.FONT};font-size:12.5px;line-height:1.35'>"
-        f"<table>{body}</table></div>"
-    )
+    ]
+    return tag("table", *cells, cls="cdfsketch-readout-table")
+
+
+def checks_html(r: dict[str, Any]) -> str:
+    """The readout's warnings, one per line (empty when there is none)."""
+    lines = [tag("div", f"check: {text}", cls="cdfsketch-warn") for text in r["warnings"]]
+    return tag("div", *lines, cls="cdfsketch-checks") if lines else ""
