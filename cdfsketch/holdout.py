@@ -50,4 +50,6 @@ def holdout_split(n: int, *, fraction: float, rng: Any = None) -> tuple[np.ndarr
     )
     k = round(fraction * n)
     perm = _streams.generator(_streams.root_seed(rng), "holdout").permutation(n)
-    return np.sort(perm[k:]), np.sort(perm[:k])
+    held = np.zeros(n, dtype=bool)
+    held[perm[:k]] = True
+    return np.flatnonzero(~held), np.flatnonzero(held)

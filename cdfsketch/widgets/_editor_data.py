@@ -28,8 +28,10 @@ from typing import Any
 import numpy as np
 
 from .. import _streams
+from .._validate import number
 from ..empirical import ECDF, as_data
 from ..holdout import holdout_split
+from ..review.layers import histogram
 from ..sketch import Sketch
 from ..spec import data_fingerprint
 
@@ -80,25 +82,21 @@ class DataView:
         self.tolerance = float(out.tolerance)
         self._jump_x = jx
         self._p_below = np.r_[0.0, jp]  # F_n just below each jump point, then F_n at the last
-        # histogram (Rice rule 2·n^(1/3) bins, clipped to 10..60: common practice, no source)
-        bins = int(min(60, max(10, math.ceil(2 * self.n ** (1 / 3)))))
-        lo, hi = float(xs[0]), float(xs[-1])
-        edges = np.linspace(lo, hi, bins + 1)
-        idx = np.searchsorted(xs, edges, side="left")
-        idx[-1] = xs.size
-        counts = np.diff(idx)
-        self.hist_edges = edges
-        self.hist_density = counts / (self.n * np.diff(edges))
+        self.hist_edges, self.hist_density = histogram(xs, is_sorted=True)
         # the one holdout split (as compare() makes it), made once
         self.holdout = float(holdout or 0.0)
         self.held: np.ndarray | None = None
         self.held_size = 0
         if self.holdout > 0:
-            if not 0 < self.holdout < 1:
-                raise ValueError(
-                    f"holdout must be a fraction in (0, 1) or None; got {holdout!r}. "
-                    "For example holdout=0.3."
-                )
+            number(
+                holdout,
+                field="holdout",
+                low=0,
+                high=1,
+                low_open=True,
+                high_open=True,
+                example="holdout=0.3",
+            )
             _train, test = holdout_split(self.n, fraction=self.holdout, rng=rng)
             if test.size:
                 if test.size > HOLDOUT_LIVE:
@@ -188,33 +186,13 @@ def _resolution(sample: np.ndarray, span: float) -> float:
 
 
 def automatic_start(view: DataView, *, budget: int = AUTO_KNOTS) -> Sketch:
-    """The automatic starting sketch: at most ``budget`` knots along the data's ECDF.
+    """The automatic starting sketch: at most ``budget`` knots, as close to the band as they go.
 
-    Greedy: from the sample's minimum (p = 0) and maximum (p = 1), add a knot
-    where the piecewise-linear curve is farthest from the ECDF, in the middle
-    of the ECDF's step there, until the curve is within half the band's width
-    or ``budget`` knots are used. The ends are the data's extremes: the sketch
-    has no tail mass until one is added (the readout says so).
+    The fewest-knots search of :func:`cdfsketch.elicit.from_data` with a knot
+    budget, on the ECDF the view already holds (no second sort). The ends are
+    the data's extremes: the sketch has no tail mass until one is added (the
+    readout says so).
     """
-    xs = view.kept_x
-    hi, lo = view.kept_p, view.kept_p_left  # F_n at and just below each kept point
-    kx = [float(view.sorted[0]), float(view.sorted[-1])]
-    kp = [0.0, 1.0]
-    if kx[0] == kx[1]:
-        kx[1] = kx[0] + 1.0
-    while len(kx) < budget:
-        g = np.interp(xs, kx, kp)
-        dev = np.maximum(np.abs(hi - g), np.abs(lo - g))
-        dev[np.isin(xs, kx)] = 0.0
-        j = int(np.argmax(dev))
-        if dev[j] <= 0.5 * view.band.eps:
-            break
-        at = int(np.searchsorted(kx, xs[j]))
-        p = float(np.clip(0.5 * (lo[j] + hi[j]), kp[at - 1], kp[at]))
-        kx.insert(at, float(xs[j]))
-        kp.insert(at, p)
-    provenance = {
-        "method": f"automatic start: at most {budget} knots along the ECDF",
-        "data": view.fingerprint,
-    }
-    return Sketch(kx, kp, provenance=provenance)
+    from ..elicit import from_ecdf
+
+    return from_ecdf(view.ecdf, fingerprint=view.fingerprint, level=view.level, max_knots=budget)

@@ -16,7 +16,7 @@ from __future__ import annotations
 
 import html
 
-from . import palette
+from ..review import palette
 
 __all__ = ["CSS", "raw", "swatch", "tag"]
 

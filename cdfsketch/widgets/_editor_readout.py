@@ -14,17 +14,13 @@ from typing import Any
 import numpy as np
 
 from .._numfmt import at_resolution, significant
+from ..review.texts import CAUTION
 from ..sketch import Sketch
 from ..tails import BoundedTail
 from ._editor_data import DataView
 from ._editor_html import raw, tag
 
 __all__ = ["CAUTION", "checks_html", "readout", "readout_html", "tail_text", "warnings"]
-
-CAUTION = (
-    "A sketch is a judgement, to be reviewed before use; local codes and licensed practice "
-    "decide what is acceptable."
-)
 
 
 def _x(v: float, data: DataView | None) -> str:

@@ -22,9 +22,9 @@ import bqplot as bq
 import ipywidgets as w
 import numpy as np
 
+from ..review import palette
 from ..sketch import Sketch
 from ..tails import BoundedTail
-from . import palette
 from ._editor_data import DataView
 from ._editor_html import raw, swatch, tag
 from ._editor_state import State

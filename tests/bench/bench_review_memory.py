@@ -1,10 +1,10 @@
 """Peak memory of a review on large data, as a ratio to the data's bytes (issue 15: ≤ ~8×).
 
-Run: ``PYTHONPATH=. python tests/review/bench_review_memory.py [n]`` (default 1e7). Each
+Run: ``PYTHONPATH=. python tests/bench/bench_review_memory.py [n]`` (default 1e7). Each
 case runs in a fresh process; peak RSS from ``resource.getrusage`` minus the RSS after
 the imports and the data were made. Cases: what the views draw (the data's ECDF,
 band, histogram and the curves), the comparison alone, and the whole ReviewBoard.
-Smoke call: ``main(20_000)``.
+Smoke call: ``main(quick=True)``.
 """
 
 from __future__ import annotations
@@ -40,7 +40,9 @@ print(f"{what:8s} n={n:.0e} peak above baseline {(peak - base) / 1024:7.0f} MB =
 """
 
 
-def main(n: int = 10_000_000) -> None:
+def main(n: int = 10_000_000, *, quick: bool = False) -> None:
+    if quick:
+        n = 20_000
     for what in ("layers", "compare", "board"):
         out = subprocess.run([sys.executable, "-c", CASE, str(n), what], capture_output=True,
                              text=True, check=True)  # fmt: skip
