@@ -332,7 +332,7 @@ def _bad_specs() -> list[dict[str, Any]]:
     table = [
         ("unknown top-level key", base, ["colour"], "red", "'colour'"),
         ("format of another file", base, ["format"], "other-format", "format"),
-        ("newer version", base, ["version"], 2, "version 2"),
+        ("newer version", base, ["version"], 2, "version"),
         ("version not a number", base, ["version"], "1", "version"),
         ("missing interpolation", base, ["interpolation"], _DELETE, "'interpolation'"),
         ("unknown interpolation", base, ["interpolation"], "cubic", "interpolation"),
