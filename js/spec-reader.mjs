@@ -1,8 +1,8 @@
 // cdfsketch spec reader: the browser-side reference reader of the spec format.
 //
 // A dependency-free ES module. It checks a cdfsketch spec (format
-// "cdfsketch-spec", version 1; see cdfsketch/spec.py and
-// cdfsketch/schema/spec-v1.schema.json) and evaluates it exactly as the
+// "cdfsketch-spec", version 1; see cdfsketch/spec/ and
+// cdfsketch/spec/schemas/spec-v1.schema.json) and evaluates it exactly as the
 // Python package does: the piece table of cdfsketch/_pieces.py is rebuilt
 // operation for operation (same formulas, same order of floating-point
 // operations), so cdf, pdf and ppf agree with Python to rounding.

@@ -345,7 +345,7 @@ def real(value: Any, *, field: str, **limits: Any) -> float:
     except OverflowError:
         raise fail(
             f"{field} must be a finite number",
-            f"an integer of {len(str(value))} digits",
+            f"an integer of {len(str(value))} digits, too large for a float",
             "Write moderate numbers (rescale the units).",
             error=SpecError,
             field=field,

@@ -123,3 +123,25 @@ def test_migration_from_version_1_to_current():
         migrate({**spec, "version": VERSION + 1})
     with pytest.raises(SpecError, match=r"version must be an integer ≥ 1; got 0"):
         migrate({**spec, "version": 0})
+
+
+def test_validate_spec_imports_no_schema_library_and_the_spec_package_no_sketch():
+    import ast
+    import subprocess
+    import sys
+
+    code = (
+        "import sys; from cdfsketch.loading import validate_spec; "
+        f"validate_spec({str(ROOT / 'tests' / 'data' / 'spec-v1-linear-bounded.json')!r}); "
+        "print(sorted(m for m in sys.modules if m.split('.')[0] in ('jsonschema', 'scipy')))"
+    )
+    out = subprocess.run(
+        [sys.executable, "-c", code], capture_output=True, text=True, check=True, cwd=ROOT
+    )
+    assert out.stdout.strip() == "[]"
+    # the spec package sits below the sketch: no import of it, not even inside a function
+    for path in (ROOT / "cdfsketch" / "spec").glob("*.py"):
+        for node in ast.walk(ast.parse(path.read_text(encoding="utf-8"))):
+            if isinstance(node, ast.ImportFrom):
+                names = {node.module or "", *(a.name for a in node.names)}
+                assert "sketch" not in names and "..sketch" not in names, path.name
