@@ -25,6 +25,8 @@ export const MAX_SCALE = 1e100;
 export const MAX_NAME_CHARS = 500;
 export const MAX_UNITS_CHARS = 100;
 export const MAX_TEXT_CHARS = 100000;
+// The reader's own guard (cdfsketch/spec/_format.py MAX_DEPTH): deepest nesting read.
+export const MAX_DEPTH = 32;
 // relative agreement asked of a stored derived scale with the one the knots give
 const SCALE_RTOL = 1e-9;
 
@@ -101,6 +103,23 @@ function text(value, field, limit) {
     }
   }
   return value;
+}
+
+// Refuse nesting deeper than MAX_DEPTH (a cycle counts as too deep); iterative, so no
+// input can exhaust the stack.
+function checkDepth(root) {
+  const stack = [[root, 1]];
+  while (stack.length) {
+    const [node, depth] = stack.pop();
+    if (node === null || typeof node !== "object") continue;
+    if (depth > MAX_DEPTH) {
+      throw new SpecError(
+        `A spec must nest at most ${MAX_DEPTH} levels deep; found more. Flatten ` +
+          "provenance.extra; a spec itself needs four levels.",
+      );
+    }
+    for (const value of Object.values(node)) stack.push([value, depth + 1]);
+  }
 }
 
 function checkKeys(obj, allowed, where) {
@@ -375,6 +394,7 @@ export function validateSpec(obj) {
   if (!isObject(spec)) {
     throw new SpecError(`A spec must be a JSON object; found ${show(spec)}.`);
   }
+  checkDepth(spec);
   const fmt = own(spec, "format");
   if (fmt !== FORMAT) {
     throw new SpecError(

@@ -2,7 +2,7 @@
 
 The size limits shared with the constructors, the schema and the browser
 reader come from :mod:`cdfsketch._limits`; the two limits here only guard
-the JSON reader itself (how deep a text may nest, how long one number
+the JSON reader itself (how deep a text may nest, how long one integer
 literal may be), so that no input can exhaust the stack or the integer parser.
 
 Examples
@@ -49,8 +49,8 @@ VERSION = 1
 #: Deepest nesting of objects and arrays read (a spec itself needs 4; the rest is room
 #: for ``provenance.extra``). Checked before parsing, so no input exhausts the stack.
 MAX_DEPTH = 32
-#: Longest number literal read (a float needs at most 24 characters; an integer longer
-#: than this is refused before Python converts it).
+#: Most digits of an integer literal read (an integer longer than this is refused before
+#: Python converts it; float literals convert in linear time, to ±inf beyond the range).
 MAX_NUMBER_CHARS = 1000
 
 #: The folder of the shipped JSON Schemas (``spec-v1.schema.json``, …).

@@ -151,18 +151,18 @@ def _depth(text: str) -> int:
     return int(np.cumsum(step).max()) if step.size else 0
 
 
-def _literal(kind: type) -> Any:
-    def convert(s: str) -> Any:
-        if len(s) > MAX_NUMBER_CHARS:
-            raise fail(
-                f"A number in JSON text may have at most {MAX_NUMBER_CHARS} characters",
-                f"a literal of {len(s):,} characters ({quote(s, limit=20)})",
-                "Write moderate numbers (rescale the units).",
-                error=SpecError,
-            )
-        return kind(s)
-
-    return convert
+def _integer(s: str) -> int:
+    # Python refuses to convert integer literals past 4300 digits (ValueError); refuse
+    # long ones here, as a SpecError. Float literals of any length convert in linear
+    # time (to ±inf beyond the range, which plain() refuses with the field).
+    if len(s) > MAX_NUMBER_CHARS:
+        raise fail(
+            f"An integer in JSON text may have at most {MAX_NUMBER_CHARS} digits",
+            f"a literal of {len(s):,} digits ({quote(s, limit=20)})",
+            "Write moderate numbers (rescale the units).",
+            error=SpecError,
+        )
+    return int(s)
 
 
 def _constant(name: str) -> Any:
@@ -189,9 +189,7 @@ def read_json(obj: Any) -> tuple[dict[str, Any], Path | None]:
     if depth > MAX_DEPTH:
         raise _too_deep(depth)
     try:
-        data = json.loads(
-            src, parse_constant=_constant, parse_int=_literal(int), parse_float=_literal(float)
-        )
+        data = json.loads(src, parse_constant=_constant, parse_int=_integer)
     except json.JSONDecodeError as exc:
         raise fail(
             "A spec must be valid JSON",
@@ -252,8 +250,6 @@ def plain(value: Any, *, field: tuple[Any, ...] = ()) -> Any:
     ...
     cdfsketch._validate.SpecError: x[1] must be a finite number; got nan. ...
     """
-    if len(field) > MAX_DEPTH:
-        raise _too_deep(f"more than {MAX_DEPTH}")
     kind = type(value)
     if kind is float:
         if math.isfinite(value):
@@ -270,6 +266,8 @@ def plain(value: Any, *, field: tuple[Any, ...] = ()) -> Any:
                 field=_where(field),
             )
         return value
+    elif isinstance(value, Mapping | list | tuple) and len(field) >= MAX_DEPTH:
+        raise _too_deep(f"more than {MAX_DEPTH}")
     elif isinstance(value, Mapping):
         out = {}
         for key, item in value.items():
@@ -285,9 +283,8 @@ def plain(value: Any, *, field: tuple[Any, ...] = ()) -> Any:
             out[_text(key, field)] = plain(item, field=(*field, key))
         return out
     elif isinstance(value, list | tuple):
-        if all(type(v) is float for v in value):
-            bad = [i for i, v in enumerate(value) if not math.isfinite(v)]
-            if not bad:
+        if all(type(v) is float for v in value):  # the fast path for knots
+            if np.isfinite(np.fromiter(value, float, len(value))).all():
                 return list(value)
         return [plain(item, field=(*field, i)) for i, item in enumerate(value)]
     elif isinstance(value, numbers.Integral | np.bool_):

@@ -24,6 +24,8 @@ import math
 from collections.abc import Mapping, Sequence
 from typing import Any
 
+import numpy as np
+
 from .._validate import SpecError, choice, fail, mapping, quote, text
 from ..tails import BoundedTail, ExponentialTail
 from ._format import (
@@ -134,9 +136,12 @@ def _check_knots(knots: Any) -> None:
         )
     for key, (low, high) in (("x", (-MAX_ABS_X, MAX_ABS_X)), ("p", (0.0, 1.0))):
         values = arrays[key]
+        if all(type(v) is float for v in values):  # the fast path: plain floats in range
+            arr = np.fromiter(values, float, len(values))
+            if np.all((arr >= low) & (arr <= high)):
+                continue
         for i, v in enumerate(values):
-            if type(v) is not float or not low <= v <= high:  # the fast path: plain floats in range
-                real(v, field=f"knots.{key}[{i}]", low=low, high=high)
+            real(v, field=f"knots.{key}[{i}]", low=low, high=high)
 
 
 def _check_tail(tail: Any, side: str) -> None:

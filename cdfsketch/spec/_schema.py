@@ -20,6 +20,7 @@ Examples
 from __future__ import annotations
 
 import json
+import math
 import re
 from collections.abc import Iterator
 from functools import cache
@@ -137,8 +138,8 @@ def schema_errors(
         if "maxItems" in sch and len(value) > sch["maxItems"]:
             yield path, f"must hold at most {sch['maxItems']} items"
         if "items" in sch:
-            for i, item in enumerate(value):
-                yield from schema_errors(sch["items"], item, root, (*path, i))
+            for i in _suspects(sch["items"], value):
+                yield from schema_errors(sch["items"], value[i], root, (*path, i))
     if _is_type(value, "number"):
         for key, bad in (
             ("minimum", lambda v, b: v < b),
@@ -173,6 +174,28 @@ def _object_errors(
             yield path, f"must not have the key {key!r}"
         elif extra is not True:
             yield from schema_errors(extra, item, root, (*path, key))
+
+
+_BOUNDS = {"minimum", "maximum", "exclusiveMinimum", "exclusiveMaximum", "description"}
+
+
+def _suspects(items: Any, value: list[Any]) -> range | list[int]:
+    """Indices of ``value`` to check against ``items`` (a fast pass for arrays of numbers)."""
+    if not (
+        isinstance(items, dict)
+        and items.get("type") == "number"
+        and set(items) <= {"type", *_BOUNDS}
+    ):
+        return range(len(value))
+    lo = items.get("minimum", -math.inf)
+    hi = items.get("maximum", math.inf)
+    lo_open = items.get("exclusiveMinimum", -math.inf)
+    hi_open = items.get("exclusiveMaximum", math.inf)
+    return [
+        i
+        for i, v in enumerate(value)
+        if not (type(v) in (float, int) and lo <= v <= hi and lo_open < v < hi_open)
+    ]
 
 
 def _valid(sch: Any, value: Any, root: dict[str, Any], path: tuple[Any, ...]) -> bool:

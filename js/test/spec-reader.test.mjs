@@ -265,3 +265,22 @@ test("a stored derived scale must be positive; a stated scale at most MAX_SCALE"
   big.tails.upper = { kind: "exponential", scale: 1e101, scale_rule: "stated" };
   rejects(big, /tails\.upper\.scale must be at most 1e\+100/);
 });
+
+test("nesting deeper than MAX_DEPTH and cycles are refused, never a stack overflow", () => {
+  const deep = baseSpec();
+  let node = [];
+  for (let i = 0; i < 200000; i++) node = [node];
+  deep.provenance = { extra: { node } };
+  rejects(deep, /nest at most 32 levels deep/);
+  const text = JSON.stringify(baseSpec()).replace('"name":', `"n2":${"[".repeat(5000)}${"]".repeat(5000)},"name":`);
+  rejects(text, /nest at most 32 levels deep/);
+  const cyclic = baseSpec();
+  cyclic.provenance = { extra: {} };
+  cyclic.provenance.extra.self = cyclic.provenance;
+  rejects(cyclic, /nest at most 32 levels deep/);
+  const ok = baseSpec();
+  let shallow = 0;
+  for (let i = 0; i < 28; i++) shallow = [shallow];
+  ok.provenance = { extra: { shallow } };
+  assert.ok(validateSpec(ok));
+});

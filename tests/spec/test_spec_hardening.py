@@ -7,7 +7,6 @@ check findings (issue 16), each minimal.
 from __future__ import annotations
 
 import json
-import time
 from pathlib import Path
 
 import numpy as np
@@ -48,6 +47,23 @@ def test_deep_nesting_in_text_is_refused_before_parsing(depth):
     refused(text, f"nest at most {MAX_DEPTH} levels deep; got {depth + 1} levels")
 
 
+def _nested(levels: int) -> dict:
+    # a spec whose deepest container is at `levels` (the spec object itself is level 1)
+    spec = golden()
+    node: list = []
+    for _ in range(levels - 4):
+        node = [node]
+    spec["provenance"] = {"extra": {"deep": node}}
+    return spec
+
+
+def test_the_depth_limit_is_exact_for_text_and_dicts():
+    for make in (lambda lv: _nested(lv), lambda lv: json.dumps(_nested(lv))):
+        for judge in JUDGES:
+            judge(make(MAX_DEPTH))
+        refused(make(MAX_DEPTH + 1), f"nest at most {MAX_DEPTH} levels deep")
+
+
 def test_deep_and_cyclic_dicts_passed_directly():
     spec = golden()
     deep: list = []
@@ -65,7 +81,7 @@ def test_deep_and_cyclic_dicts_passed_directly():
 
 def test_huge_integer_literals():
     text = json.dumps(golden()).replace("0.5", "9" * 5000, 1)
-    refused(text, "at most 1000 characters; got a literal of 5,000 characters")
+    refused(text, "at most 1000 digits; got a literal of 5,000 digits")
     text = json.dumps(golden()).replace("0.5", "9" * 999, 1)  # a legal literal, beyond float
     refused(text, r"must be a finite number.*got an integer of 999 digits")
     spec = golden()
@@ -152,24 +168,18 @@ def _knots_text(n: int, *, valid: bool) -> str:
     return json.dumps(spec)
 
 
-def test_sizes_are_checked_before_the_schema():
+def test_sizes_are_checked_before_anything_else():
+    # the size limits fire first (timings: tests/bench/bench_spec_limits.py)
     text = _knots_text(1_000_000, valid=True)
-    t0 = time.perf_counter()
     refused(text, "at most 10,000,000 bytes")
     refused(json.loads(text), "must hold 2 to 100,000 numbers; got 1,000,000")
-    assert time.perf_counter() - t0 < 4  # both judges, text and dict; was 102 s
-    text = _knots_text(100_000, valid=False)
-    t0 = time.perf_counter()
-    refused(text, "non-decreasing")
-    assert time.perf_counter() - t0 < 4  # both judges; was 24 s
+    refused(_knots_text(100_000, valid=False), "non-decreasing")
 
 
-def test_a_spec_at_the_limit_validates_in_under_two_seconds():
+def test_a_spec_at_the_limit_is_accepted_by_both_judges():
     text = _knots_text(100_000, valid=True)
-    validate_spec(text)  # warm (imports)
-    t0 = time.perf_counter()
+    assert len(load(text)) == 100_000
     validate_spec(text)
-    assert time.perf_counter() - t0 < 2
 
 
 def test_text_path_and_bytes_give_the_same_sketch_and_the_path_gives_its_folder():
