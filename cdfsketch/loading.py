@@ -38,10 +38,8 @@ __all__ = ["load", "validate_spec"]
 
 def _sketch(spec: Mapping[str, Any]) -> Sketch:
     """Build the sketch of a checked spec; its CDF rules reported as a SpecError."""
-    kwargs = spec_to_kwargs(spec)
-    x, p = kwargs.pop("x"), kwargs.pop("p")
     try:
-        sketch = Sketch(x, p, **kwargs)
+        sketch = Sketch(**spec_to_kwargs(spec))
     except (ValueError, TypeError) as exc:
         field = getattr(exc, "field", None)
         where = f"knots.{field}" if field in ("x", "p") else (field or "knots")

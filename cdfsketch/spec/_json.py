@@ -36,7 +36,7 @@ import numpy as np
 from .._validate import SpecError, fail, number, quote
 from ._format import MAX_DEPTH, MAX_NUMBER_CHARS, MAX_SPEC_BYTES
 
-__all__ = ["plain", "read_json", "real", "source"]
+__all__ = ["plain", "read_json", "real", "source", "where"]
 
 #: Longest string taken as a path (longer ones are neither a path nor JSON text).
 _MAX_PATH_CHARS = 4096
@@ -225,7 +225,8 @@ def _json_kind(value: Any) -> str:
     )
 
 
-def _where(path: tuple[Any, ...]) -> str:
+def where(path: tuple[Any, ...]) -> str:
+    """A field path as the messages write it: ``knots.x[3]``, ``the spec`` for the root."""
     out = ""
     for key in path:
         out += f"[{key}]" if isinstance(key, int) else (f".{key}" if out else str(key))
@@ -259,11 +260,11 @@ def plain(value: Any, *, field: tuple[Any, ...] = ()) -> Any:
     elif kind is int or kind is bool or value is None:
         if kind is int and value.bit_length() > _MAX_INT_BITS:
             raise fail(
-                f"{_where(field)} must be a moderate number",
+                f"{where(field)} must be a moderate number",
                 f"an integer of {len(str(value)) if value.bit_length() < 14000 else 'many'} digits",
                 "Write moderate numbers (rescale the units).",
                 error=SpecError,
-                field=_where(field),
+                field=where(field),
             )
         return value
     elif isinstance(value, Mapping | list | tuple) and len(field) >= MAX_DEPTH:
@@ -273,11 +274,11 @@ def plain(value: Any, *, field: tuple[Any, ...] = ()) -> Any:
         for key, item in value.items():
             if not isinstance(key, str):
                 raise fail(
-                    f"Keys in {_where(field)} must be strings",
+                    f"Keys in {where(field)} must be strings",
                     f"{type(key).__name__} {quote(key)}",
                     "Use text keys (JSON objects have only text keys).",
                     error=SpecError,
-                    field=_where(field),
+                    field=where(field),
                     value=key,
                 )
             out[_text(key, field)] = plain(item, field=(*field, key))
@@ -293,19 +294,19 @@ def plain(value: Any, *, field: tuple[Any, ...] = ()) -> Any:
         return plain(float(value), field=field)
     else:
         raise fail(
-            f"{_where(field)} must be plain JSON data (text, numbers, lists, objects)",
+            f"{where(field)} must be plain JSON data (text, numbers, lists, objects)",
             f"{type(value).__name__} {quote(value)}",
             "Convert arrays with .tolist() and objects to dicts.",
             error=SpecError,
-            field=_where(field),
+            field=where(field),
             value=value,
         )
     raise fail(
-        f"{_where(field)} must be a finite number",
+        f"{where(field)} must be a finite number",
         quote(value),
         "A spec is plain JSON: describe unbounded ends by tails, leave missing values out.",
         error=SpecError,
-        field=_where(field),
+        field=where(field),
         index=field[-1] if field and isinstance(field[-1], int) else None,
         value=value,
     )
@@ -316,11 +317,11 @@ def _text(value: str, field: tuple[Any, ...]) -> str:
         value.encode("utf-8")
     except UnicodeEncodeError as exc:
         raise fail(
-            f"Text in {_where(field)} must be writable as UTF-8",
+            f"Text in {where(field)} must be writable as UTF-8",
             f"an unpaired surrogate {value[exc.start]!r} at character {exc.start}",
             "Remove it or replace it with the intended character.",
             error=SpecError,
-            field=_where(field),
+            field=where(field),
             index=exc.start,
             value=value,
         ) from None

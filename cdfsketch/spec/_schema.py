@@ -28,6 +28,7 @@ from typing import Any
 
 from .._validate import SpecError, fail, quote
 from ._format import SCHEMAS
+from ._json import where as _where
 
 __all__ = ["KEYWORDS", "check_against_schema", "first_error", "schema", "schema_errors"]
 
@@ -219,13 +220,6 @@ def _combined_errors(
         branch = "then" if _valid(sch["if"], value, root, path) else "else"
         if branch in sch:
             yield from schema_errors(sch[branch], value, root, path)
-
-
-def _where(path: tuple[Any, ...]) -> str:
-    out = ""
-    for key in path:
-        out += f"[{key}]" if isinstance(key, int) else (f".{key}" if out else str(key))
-    return out or "the spec"
 
 
 def first_error(sch: dict[str, Any], value: Any) -> tuple[str, str] | None:

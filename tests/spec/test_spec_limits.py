@@ -11,7 +11,7 @@ import pytest
 from cdfsketch import _limits
 from cdfsketch.loading import load
 from cdfsketch.sketch import Sketch
-from cdfsketch.spec import SCHEMAS, SpecError, migrate, schema
+from cdfsketch.spec import MAX_DEPTH, SCHEMAS, SpecError, migrate, schema
 from cdfsketch.spec._schema import KEYWORDS
 
 ROOT = Path(__file__).resolve().parents[2]
@@ -51,6 +51,7 @@ def test_js_reader_states_the_limit_table():
     for name in ("MAX_ABS_X", "MIN_SPACING", "MAX_SCALE", "MAX_NAME_CHARS", "MAX_UNITS_CHARS"):
         assert js[name] == getattr(_limits, name), name
     assert js["MAX_TEXT_CHARS"] == _limits.MAX_TEXT_CHARS
+    assert js["MAX_DEPTH"] == MAX_DEPTH  # the reader's own guard (cdfsketch.spec)
 
 
 def test_every_limit_of_the_table_is_used_by_the_reader():
