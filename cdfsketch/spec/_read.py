@@ -52,7 +52,7 @@ __all__ = ["check_spec", "check_stored_scales", "read_spec", "spec_to_kwargs"]
 def read_spec(obj: Any) -> dict[str, Any]:
     """A checked spec dict from a path, JSON text, bytes or a mapping.
 
-    How text is told apart from a path: see :func:`cdfsketch.loading.load`.
+    How text is told apart from a path: see :func:`cdfsketch.spec.source`.
     """
     return check_spec(read_json(obj)[0])
 

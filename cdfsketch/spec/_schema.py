@@ -39,7 +39,9 @@ KEYWORDS = frozenset(
         "type", "const", "enum", "required", "properties", "additionalProperties",
         "items", "minItems", "maxItems", "minimum", "maximum", "exclusiveMinimum",
         "exclusiveMaximum", "minLength", "maxLength", "pattern", "oneOf", "anyOf",
-        "allOf", "not", "if", "then", "else", "default", "examples",
+        "allOf", "not", "if", "then", "else", "default", "examples", "minProperties",
+        "maxProperties", "patternProperties", "propertyNames", "dependentRequired",
+        "uniqueItems", "multipleOf",
     }
 )  # fmt: skip
 _FILES = {"spec": "spec-v1.schema.json", "inputs": "inputs-v1.schema.json"}
@@ -99,11 +101,13 @@ def _equal(a: Any, b: Any) -> bool:
 
 
 def _resolve(root: dict[str, Any], ref: str) -> dict[str, Any]:
+    if ref == "#":
+        return root
     if not ref.startswith("#/"):
         raise ValueError(f"only local references are supported; got {ref!r}")
     node: Any = root
     for part in ref[2:].split("/"):
-        node = node[part]
+        node = node[part.replace("~1", "/").replace("~0", "~")]
     return node
 
 
@@ -138,6 +142,10 @@ def schema_errors(
             yield path, f"must hold at least {sch['minItems']} items"
         if "maxItems" in sch and len(value) > sch["maxItems"]:
             yield path, f"must hold at most {sch['maxItems']} items"
+        if sch.get("uniqueItems") and any(
+            _equal(value[i], value[j]) for i in range(len(value)) for j in range(i)
+        ):
+            yield path, "must hold no repeated items"
         if "items" in sch:
             for i in _suspects(sch["items"], value):
                 yield from schema_errors(sch["items"], value[i], root, (*path, i))
@@ -150,6 +158,10 @@ def schema_errors(
         ):
             if key in sch and bad(value, sch[key]):
                 yield path, f"breaks {key} {sch[key]!r}"
+        if "multipleOf" in sch:
+            q = value / sch["multipleOf"]
+            if not (math.isfinite(q) and q == int(q)):
+                yield path, f"must be a multiple of {sch['multipleOf']!r}"
     if isinstance(value, str):
         if len(value) < sch.get("minLength", 0):
             yield path, f"must have at least {sch['minLength']} characters"
@@ -166,11 +178,28 @@ def _object_errors(
     for key in sch.get("required", ()):
         if key not in value:
             yield path, f"must have the key {key}"
+    for key, needs in sch.get("dependentRequired", {}).items():
+        if key in value:
+            for other in needs:
+                if other not in value:
+                    yield path, f"must have the key {other} beside {key}"
+    if len(value) < sch.get("minProperties", 0):
+        yield path, f"must have at least {sch['minProperties']} keys"
+    if "maxProperties" in sch and len(value) > sch["maxProperties"]:
+        yield path, f"must have at most {sch['maxProperties']} keys"
     props = sch.get("properties", {})
+    patterns = sch.get("patternProperties", {})
     extra = sch.get("additionalProperties", True)
     for key, item in value.items():
+        if "propertyNames" in sch and not _valid(sch["propertyNames"], key, root, path):
+            yield path, f"must not have the key {key!r} (its name breaks propertyNames)"
+        matched = [p for p in patterns if re.search(p, key)]
+        for p in matched:
+            yield from schema_errors(patterns[p], item, root, (*path, key))
         if key in props:
             yield from schema_errors(props[key], item, root, (*path, key))
+        elif matched:
+            continue
         elif extra is False:
             yield path, f"must not have the key {key!r}"
         elif extra is not True:

@@ -191,12 +191,15 @@ def main(argv: list[str] | None = None) -> None:
     parser = argparse.ArgumentParser(description=__doc__.splitlines()[0])
     parser.add_argument("--n", type=int, default=100_000)
     parser.add_argument("--seed", type=int, default=20261202)
+    parser.add_argument("--every", type=int, default=10_000, help="print counts this often")
     args = parser.parse_args(argv)
     counts: Counter[str] = Counter()
     examples: dict[str, str] = {}
     t0 = time.perf_counter()
-    for item in corpus(args.seed, args.n):
+    for i, item in enumerate(corpus(args.seed, args.n), 1):
         r = judge(item)
+        if i % args.every == 0:
+            print(f"after {i:,}: {dict(counts.most_common())}", flush=True)
         key = f"load={r['load']} validate={r['validate']} sampler={r['sampler']}"
         counts[key] += 1
         if r["detail"] and key not in examples:
