@@ -26,7 +26,6 @@ import json
 import math
 import numbers
 import os
-import re
 from collections.abc import Mapping
 from pathlib import Path
 from typing import Any
@@ -42,7 +41,6 @@ __all__ = ["plain", "read_json", "real", "source", "where"]
 _MAX_PATH_CHARS = 4096
 # an integer of MAX_NUMBER_CHARS decimal digits has about 3.32 bits per digit
 _MAX_INT_BITS = int(MAX_NUMBER_CHARS * 3.33)
-_STRING = re.compile(r'"(?:[^"\\]|\\.)*"', re.S)
 _OPEN = np.array([ord("["), ord("{")], dtype=np.uint8)
 _CLOSE = np.array([ord("]"), ord("}")], dtype=np.uint8)
 
@@ -142,13 +140,21 @@ def _decode(data: bytes, what: str) -> str:
 
 
 def _depth(text: str) -> int:
-    """Deepest nesting of ``[``/``{`` outside strings (an over-count for broken JSON)."""
+    """Deepest nesting of ``[``/``{`` outside strings, in linear time (numpy, no regex)."""
     if text.count("[") + text.count("{") <= MAX_DEPTH:
         return 0
-    bare = _STRING.sub("", text).encode("utf-8", "surrogatepass")
-    b = np.frombuffer(bare, dtype=np.uint8)
-    step = np.isin(b, _OPEN).astype(np.int64) - np.isin(b, _CLOSE)
-    return int(np.cumsum(step).max()) if step.size else 0
+    b = np.frombuffer(text.encode("utf-8", "surrogatepass"), dtype=np.uint8)
+    idx = np.arange(b.size, dtype=np.int32)  # MAX_SPEC_BYTES < 2**31
+    # a quote is escaped when an odd run of backslashes ends just before it
+    last_plain = np.maximum.accumulate(np.where(b != ord("\\"), idx, np.int32(-1)))
+    run = np.zeros(b.size, dtype=np.int32)
+    run[1:] = idx[:-1] - last_plain[:-1]
+    del idx, last_plain
+    quote = (b == ord('"')) & (run % 2 == 0)
+    outside = np.cumsum(quote, dtype=np.int32) % 2 == 0
+    step = np.isin(b, _OPEN).astype(np.int8) - np.isin(b, _CLOSE).astype(np.int8)
+    step *= outside
+    return int(np.cumsum(step, dtype=np.int32).max()) if step.size else 0
 
 
 def _integer(s: str) -> int:

@@ -187,3 +187,13 @@ def test_text_path_and_bytes_give_the_same_sketch_and_the_path_gives_its_folder(
     assert load(str(GOLDEN)) == load(GOLDEN.read_bytes()) == load(GOLDEN.read_text()) == s
     assert read_json(GOLDEN)[1] == GOLDEN.resolve().parent
     assert read_json(GOLDEN.read_text())[1] is None
+
+
+def test_depth_scan_ignores_brackets_in_strings_and_escaped_quotes():
+    from cdfsketch.spec._json import _depth
+
+    inner = '"[[[[[[[[[[[[[[[[[[[[[[[[[[[[[[[[[[[[[[[[[[[[ \\" [[[[[["'
+    assert _depth('{"a": ' + inner + ', "b": [[1]]}') == 3
+    assert _depth('{"a": "\\\\", "b": ' + "[" * 40 + "]" * 40 + "}") == 41
+    # a text of many escaped quotes is scanned in linear time (a regex would be quadratic)
+    refused('{"a": "' + '\\"' * 2_000_000 + '", "b": ' + "[" * 40 + "]" * 40 + "}", "nest at most")
