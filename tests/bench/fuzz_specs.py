@@ -198,12 +198,12 @@ def main(argv: list[str] | None = None) -> None:
     t0 = time.perf_counter()
     for i, item in enumerate(corpus(args.seed, args.n), 1):
         r = judge(item)
-        if i % args.every == 0:
-            print(f"after {i:,}: {dict(counts.most_common())}", flush=True)
         key = f"load={r['load']} validate={r['validate']} sampler={r['sampler']}"
         counts[key] += 1
         if r["detail"] and key not in examples:
             examples[key] = r["detail"]
+        if i % args.every == 0:
+            print(f"after {i:,}: {dict(counts.most_common())}", flush=True)
     took = time.perf_counter() - t0
     print(f"{args.n:,} inputs in {took:.1f} s ({1e3 * took / args.n:.2f} ms each)")
     for key, c in counts.most_common():
