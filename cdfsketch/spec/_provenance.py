@@ -63,6 +63,13 @@ def check_provenance(prov: Any) -> None:
     """Check a provenance record: known keys, right types, text limits, plain JSON.
 
     Raises :class:`~cdfsketch._validate.SpecError` naming the field.
+
+    Examples
+    --------
+    >>> check_provenance({"data": {"sha256": "0" * 64, "n": 3, "label": 7}})
+    Traceback (most recent call last):
+    ...
+    cdfsketch._validate.SpecError: provenance.data.label must be a str; got int 7. ...
     """
     _object(prov, "provenance")
     check_keys(prov, PROVENANCE_KEYS, "provenance")

@@ -62,6 +62,13 @@ def check_spec(data: Mapping[str, Any]) -> dict[str, Any]:
 
     Every rule of ``spec-v1.schema.json`` is here, with its limits; ``data``
     must already be plain JSON data (:func:`cdfsketch.spec.read_json` makes it so).
+
+    Examples
+    --------
+    >>> check_spec({"format": "cdfsketch-spec", "version": 1, "interpolation": "cubic"})
+    Traceback (most recent call last):
+    ...
+    cdfsketch._validate.SpecError: A spec must have the key 'knots'; got only 'format', ...
     """
     spec = dict(mapping(data, field="the spec", error=SpecError))
     fmt = spec.get("format")
@@ -200,7 +207,14 @@ def _check_tail(tail: Any, side: str) -> None:
 
 
 def stored_scales(spec: Mapping[str, Any]) -> tuple[float | None, float | None]:
-    """The scales a spec stores for its ``continue-density`` tails (``None`` when absent)."""
+    """The scales a spec stores for its ``continue-density`` tails (``None`` when absent).
+
+    Examples
+    --------
+    >>> tail = {"kind": "exponential", "scale_rule": "continue-density"}
+    >>> stored_scales({"tails": {"lower": tail, "upper": {**tail, "scale": 2}}})
+    (None, 2.0)
+    """
     out = []
     for side in ("lower", "upper"):
         tail = spec["tails"][side]
@@ -214,7 +228,17 @@ def stored_scales(spec: Mapping[str, Any]) -> tuple[float | None, float | None]:
 
 
 def check_stored_scales(spec: Mapping[str, Any], resolved: Sequence[float | None]) -> None:
-    """Refuse a stored derived scale that disagrees with the one the knots give."""
+    """Refuse a stored derived scale that disagrees with the one the knots give.
+
+    Examples
+    --------
+    >>> tail = {"kind": "exponential", "scale": 2.0, "scale_rule": "continue-density"}
+    >>> check_stored_scales({"tails": {"lower": tail, "upper": tail}}, (2.0, 2.0 + 1e-12))
+    >>> check_stored_scales({"tails": {"lower": tail, "upper": tail}}, (2.0, 3.0))
+    Traceback (most recent call last):
+    ...
+    cdfsketch._validate.SpecError: tails.upper.scale must match the scale the knots give ...
+    """
     for side, stored, got in zip(("lower", "upper"), stored_scales(spec), resolved, strict=True):
         if (
             stored is not None

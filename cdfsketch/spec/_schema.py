@@ -65,6 +65,11 @@ def schema(which: str = "spec") -> dict[str, Any]:
     """The JSON Schema (Draft 2020-12) of a file format, as a fresh dict.
 
     ``which="spec"``: a single-input spec; ``which="inputs"``: an input-set file.
+
+    Examples
+    --------
+    >>> schema()["properties"]["name"]["maxLength"]
+    500
     """
     return json.loads(_text(which))
 
@@ -114,7 +119,13 @@ def _resolve(root: dict[str, Any], ref: str) -> dict[str, Any]:
 def schema_errors(
     sch: Any, value: Any, root: dict[str, Any] | None = None, path: tuple[Any, ...] = ()
 ) -> Iterator[tuple[tuple[Any, ...], str]]:
-    """Yield ``(path, what is wrong)`` for every rule of ``sch`` that ``value`` breaks."""
+    """Yield ``(path, what is wrong)`` for every rule of ``sch`` that ``value`` breaks.
+
+    Examples
+    --------
+    >>> list(schema_errors({"type": "array", "items": {"minimum": 0}}, [1, -1]))
+    [((1,), 'breaks minimum 0')]
+    """
     root = sch if root is None else root
     if sch is True:
         return
@@ -258,7 +269,15 @@ def first_error(sch: dict[str, Any], value: Any) -> tuple[str, str] | None:
 
 
 def check_against_schema(value: Any, which: str = "spec") -> None:
-    """Raise :class:`SpecError` when ``value`` breaks the shipped schema ``which``."""
+    """Raise :class:`SpecError` when ``value`` breaks the shipped schema ``which``.
+
+    Examples
+    --------
+    >>> check_against_schema({"format": "cdfsketch-spec", "version": 1})
+    Traceback (most recent call last):
+    ...
+    cdfsketch._validate.SpecError: the spec must have the key interpolation (the spec schema); ...
+    """
     hit = next(schema_errors(_parsed(which), value), None)
     if hit is not None:
         path, what = hit

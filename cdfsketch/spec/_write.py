@@ -61,7 +61,15 @@ def sketch_to_spec(sketch: Any, **provenance: Any) -> dict[str, Any]:
 
     Keyword arguments are added to the provenance (``author=``,
     ``rationale=``, ``data=`` with an array to fingerprint, …). ``created`` is
-    filled in when absent and ``package_version`` is set.
+    filled in when absent and ``package_version`` is set. The result passes
+    :func:`~cdfsketch.spec.check_spec`: what is written can be read.
+
+    Examples
+    --------
+    >>> from cdfsketch import Sketch
+    >>> spec = sketch_to_spec(Sketch([0, 1], [0, 1]), author="A. Analyst", data=[1.0, 2.0])
+    >>> spec["provenance"]["author"], spec["provenance"]["data"]["n"]
+    ('A. Analyst', 2)
     """
     prov = thaw(sketch.provenance)
     extra = dict(provenance)
