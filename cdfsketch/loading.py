@@ -17,6 +17,7 @@ Examples
 from __future__ import annotations
 
 from collections.abc import Mapping
+from pathlib import Path
 from typing import TYPE_CHECKING, Any
 
 from ._validate import InputError, SpecError
@@ -64,6 +65,18 @@ def _is_inputset(data: Mapping[str, Any]) -> bool:
     return fmt == INPUTSET_FORMAT
 
 
+def _inputset(data: dict[str, Any], base: Path | None) -> InputSet:
+    """The input set of a file (its rules reported as a SpecError)."""
+    from .inputs import inputset_from_dict
+
+    try:
+        return inputset_from_dict(data, base_dir=base)
+    except SpecError:
+        raise
+    except InputError as exc:
+        raise SpecError(str(exc), field=exc.field, index=exc.index, found=exc.found) from None
+
+
 def load(obj: Any) -> Sketch | InputSet:
     """Load a spec (a :class:`~cdfsketch.Sketch`) or an input-set file (an ``InputSet``).
 
@@ -107,9 +120,7 @@ def load(obj: Any) -> Sketch | InputSet:
     """
     data, base = read_json(obj)
     if _is_inputset(data):
-        from .inputs import inputset_from_dict
-
-        return inputset_from_dict(data, base_dir=base)
+        return _inputset(data, base)
     return _sketch(check_spec(data))
 
 
@@ -130,15 +141,8 @@ def validate_spec(obj: Any) -> None:
     """
     data, base = read_json(obj)
     if _is_inputset(data):
-        from .inputs import inputset_from_dict
-
+        _inputset(data, base)  # the loader's rules first (sizes before anything slow)
         check_against_schema(data, "inputs")
-        try:
-            inputset_from_dict(data, base_dir=base)
-        except SpecError:
-            raise
-        except InputError as exc:
-            raise SpecError(str(exc), field=exc.field, index=exc.index, found=exc.found) from None
         return
     spec = check_spec(data)
     check_against_schema(spec, "spec")
