@@ -1,8 +1,8 @@
 // cdfsketch spec reader: the browser-side reference reader of the spec format.
 //
 // A dependency-free ES module. It checks a cdfsketch spec (format
-// "cdfsketch-spec", version 1; see cdfsketch/spec.py and
-// cdfsketch/schema/spec-v1.schema.json) and evaluates it exactly as the
+// "cdfsketch-spec", version 1; see cdfsketch/spec/ and
+// cdfsketch/spec/schemas/spec-v1.schema.json) and evaluates it exactly as the
 // Python package does: the piece table of cdfsketch/_pieces.py is rebuilt
 // operation for operation (same formulas, same order of floating-point
 // operations), so cdf, pdf and ppf agree with Python to rounding.
@@ -16,8 +16,17 @@
 
 export const FORMAT = "cdfsketch-spec";
 export const VERSION = 1;
+// The limits of cdfsketch/_limits.py (a Python test checks that these numbers agree).
 export const MAX_KNOTS = 100000;
-export const MAX_SPEC_CHARS = 10000000;
+export const MAX_SPEC_CHARS = 10000000; // _limits.MAX_SPEC_BYTES
+export const MAX_ABS_X = 1e100;
+export const MIN_SPACING = 1e-100;
+export const MAX_SCALE = 1e100;
+export const MAX_NAME_CHARS = 500;
+export const MAX_UNITS_CHARS = 100;
+export const MAX_TEXT_CHARS = 100000;
+// The reader's own guard (cdfsketch/spec/_format.py MAX_DEPTH): deepest nesting read.
+export const MAX_DEPTH = 32;
 // relative agreement asked of a stored derived scale with the one the knots give
 const SCALE_RTOL = 1e-9;
 
@@ -79,6 +88,40 @@ function number(value, field) {
   return value;
 }
 
+// Text of at most `limit` characters (counted as Python counts them: code points).
+function text(value, field, limit) {
+  if (typeof value !== "string") {
+    throw new SpecError(`${field} must be a string; found ${show(value)}.`);
+  }
+  if (value.length > limit) {
+    const n = [...value].length;
+    if (n > limit) {
+      throw new SpecError(
+        `${field} must be at most ${limit} characters; found ${n} characters. Shorten it; ` +
+          "longer notes belong in the rationale.",
+      );
+    }
+  }
+  return value;
+}
+
+// Refuse nesting deeper than MAX_DEPTH (a cycle counts as too deep); iterative, so no
+// input can exhaust the stack.
+function checkDepth(root) {
+  const stack = [[root, 1]];
+  while (stack.length) {
+    const [node, depth] = stack.pop();
+    if (node === null || typeof node !== "object") continue;
+    if (depth > MAX_DEPTH) {
+      throw new SpecError(
+        `A spec must nest at most ${MAX_DEPTH} levels deep; found more. Flatten ` +
+          "provenance.extra; a spec itself needs four levels.",
+      );
+    }
+    for (const value of Object.values(node)) stack.push([value, depth + 1]);
+  }
+}
+
 function checkKeys(obj, allowed, where) {
   const unknown = Object.keys(obj).filter((k) => !allowed.includes(k));
   if (unknown.length) {
@@ -123,9 +166,7 @@ function checkProvenance(prov) {
   }
   checkKeys(prov, PROVENANCE_KEYS, "provenance");
   for (const key of PROVENANCE_TEXT) {
-    if (hasOwn(prov, key) && typeof prov[key] !== "string") {
-      throw new SpecError(`provenance.${key} must be a string; found ${show(prov[key])}.`);
-    }
+    if (hasOwn(prov, key)) text(prov[key], `provenance.${key}`, MAX_TEXT_CHARS);
   }
   const data = own(prov, "data");
   if (data !== undefined && data !== null) {
@@ -144,9 +185,10 @@ function checkProvenance(prov) {
     if (!(typeof n === "number" && Number.isInteger(n) && n >= 0)) {
       throw new SpecError(`provenance.data.n must be a non-negative integer; found ${show(n)}.`);
     }
+    if (hasOwn(data, "label")) text(data.label, "provenance.data.label", MAX_NAME_CHARS);
   }
   const contributors = own(prov, "contributors");
-  if (contributors !== undefined && contributors !== null) {
+  if (hasOwn(prov, "contributors")) {
     if (!Array.isArray(contributors)) {
       throw new SpecError("provenance.contributors must be a list of {name, weight} objects.");
     }
@@ -156,11 +198,12 @@ function checkProvenance(prov) {
         throw new SpecError(`${where} must be an object with 'name' and 'weight'.`);
       }
       checkKeys(item, ["name", "weight", "summary"], where);
-      if (typeof own(item, "name") !== "string") {
-        throw new SpecError(`${where}.name must be a string; found ${show(own(item, "name"))}.`);
-      }
+      text(own(item, "name"), `${where}.name`, MAX_NAME_CHARS);
       const w = number(own(item, "weight"), `${where}.weight`);
       if (w < 0) throw new SpecError(`${where}.weight must be ≥ 0; found ${show(w)}.`);
+      if (hasOwn(item, "summary") && !isObject(item.summary)) {
+        throw new SpecError(`${where}.summary must be an object; found ${show(item.summary)}.`);
+      }
     });
   }
   for (const key of ["decision", "extra"]) {
@@ -201,7 +244,7 @@ function tailFromSpec(obj, side) {
     const limit = number(own(obj, "limit"), `${where}.limit`);
     if (Math.abs(limit) > MAX_ABS_X) {
       throw new SpecError(
-        `${where}.limit must satisfy |limit| ≤ 1e+100, like knot positions; found ` +
+        `${where}.limit must satisfy |limit| ≤ ${MAX_ABS_X}, like knot positions; found ` +
           `${show(limit)}. Rescale the quantity (e.g. other units).`,
       );
     }
@@ -225,9 +268,9 @@ function tailFromSpec(obj, side) {
     if (rule === "stated") {
       const s = number(scale, `${where}.scale`);
       if (s <= 0) throw new SpecError(`${where}.scale must be positive; found ${show(s)}.`);
-      if (s > MAX_ABS_X) {
+      if (s > MAX_SCALE) {
         throw new SpecError(
-          `${where}.scale must be at most 1e+100, like knot positions; found ${show(s)}. ` +
+          `${where}.scale must be at most ${MAX_SCALE}; found ${show(s)}. ` +
             "Rescale the quantity (e.g. other units).",
         );
       }
@@ -235,6 +278,9 @@ function tailFromSpec(obj, side) {
     }
     if (rule === "continue-density") {
       const stored = scale === undefined || scale === null ? null : number(scale, `${where}.scale`);
+      if (stored !== null && stored <= 0) {
+        throw new SpecError(`${where}.scale must be positive; found ${show(stored)}.`);
+      }
       return { tail: { kind: "exponential", scale: null }, stored };
     }
     throw new SpecError(
@@ -244,9 +290,6 @@ function tailFromSpec(obj, side) {
   throw new SpecError(`${where}.kind must be 'bounded' or 'exponential'; found ${show(kind)}.`);
 }
 
-// cdfsketch.knots.MAX_ABS_X and MIN_SPACING
-const MAX_ABS_X = 1e100;
-const MIN_SPACING = 1e-100;
 
 // cdfsketch.knots.check_knots (x and p are already finite numbers).
 function checkKnots(x, p) {
@@ -287,7 +330,7 @@ function checkKnots(x, p) {
   for (let i = 0; i < n; i++) {
     if (Math.abs(x[i]) > MAX_ABS_X) {
       throw new Error(
-        `Knot positions must satisfy |x| ≤ 1e+100; got x[${i}]=${x[i]}. Express the quantity ` +
+        `Knot positions must satisfy |x| ≤ ${MAX_ABS_X}; got x[${i}]=${x[i]}. Express the quantity ` +
           "in larger units (e.g. millions) so the numbers stay moderate.",
       );
     }
@@ -296,7 +339,7 @@ function checkKnots(x, p) {
     const dx = x[i] - x[i - 1];
     if (dx > 0 && dx < MIN_SPACING) {
       throw new Error(
-        `Distinct knot positions must be at least 1e-100 apart; got x[${i}] - x[${i - 1}] = ` +
+        `Distinct knot positions must be at least ${MIN_SPACING} apart; got x[${i}] - x[${i - 1}] = ` +
           `${dx}. Express the quantity in smaller units, or make the two knots a jump (equal x).`,
       );
     }
@@ -351,6 +394,7 @@ export function validateSpec(obj) {
   if (!isObject(spec)) {
     throw new SpecError(`A spec must be a JSON object; found ${show(spec)}.`);
   }
+  checkDepth(spec);
   const fmt = own(spec, "format");
   if (fmt !== FORMAT) {
     throw new SpecError(
@@ -371,11 +415,8 @@ export function validateSpec(obj) {
   checkKeys(spec, TOP_KEYS, "the spec");
   const missing = REQUIRED.filter((k) => !hasOwn(spec, k));
   if (missing.length) throw new SpecError(`The spec lacks the required key '${missing[0]}'.`);
-  for (const key of ["name", "units"]) {
-    if (hasOwn(spec, key) && typeof spec[key] !== "string") {
-      throw new SpecError(`${key} must be a string; found ${show(spec[key])}.`);
-    }
-  }
+  if (hasOwn(spec, "name")) text(spec.name, "name", MAX_NAME_CHARS);
+  if (hasOwn(spec, "units")) text(spec.units, "units", MAX_UNITS_CHARS);
   const interpolation = spec.interpolation;
   if (interpolation !== "linear" && interpolation !== "pchip") {
     throw new SpecError(
@@ -391,9 +432,9 @@ export function validateSpec(obj) {
     if (!Array.isArray(values)) {
       throw new SpecError(`knots.${key} must be an array of numbers; found ${show(values)}.`);
     }
-    if (values.length > MAX_KNOTS) {
+    if (values.length < 2 || values.length > MAX_KNOTS) {
       throw new SpecError(
-        `knots.${key} has ${values.length} entries; at most ${MAX_KNOTS} are accepted. ` +
+        `knots.${key} must hold 2 to ${MAX_KNOTS} numbers; found ${values.length}. ` +
           "Thin the knots; a sketch rarely needs more than a few hundred.",
       );
     }

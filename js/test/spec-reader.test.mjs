@@ -221,3 +221,66 @@ test("evaluation inputs are checked", () => {
   // far in the upper exponential tail sf is computed directly, not as 1 - cdf
   assert.ok(d.sf(1000) > 0 && d.cdf(1000) === 1);
 });
+
+test("text limits are the package's: name, units, provenance text (counted in code points)", () => {
+  const ok = baseSpec();
+  ok.name = "A".repeat(500);
+  ok.units = "u".repeat(100);
+  ok.provenance = { notes: "n".repeat(100000) };
+  assert.equal(validateSpec(ok).name.length, 500);
+  const astral = baseSpec();
+  astral.name = "😀".repeat(500); // 500 characters in Python, 1000 UTF-16 units in JS
+  assert.equal(validateSpec(astral).name, astral.name);
+  const name = baseSpec();
+  name.name = "A".repeat(501);
+  rejects(name, /name must be at most 500 characters; found 501/);
+  const units = baseSpec();
+  units.units = "u".repeat(101);
+  rejects(units, /units must be at most 100 characters/);
+  const notes = baseSpec();
+  notes.provenance = { notes: "n".repeat(100001) };
+  rejects(notes, /provenance\.notes must be at most 100000 characters/);
+  const who = baseSpec();
+  who.provenance = { contributors: [{ name: "c".repeat(501), weight: 1 }] };
+  rejects(who, /contributors\[0\]\.name must be at most 500/);
+});
+
+test("provenance.data.label and contributors[].summary have the Python types", () => {
+  const label = baseSpec();
+  label.provenance = { data: { sha256: "a".repeat(64), n: 3, label: 7 } };
+  rejects(label, /provenance\.data\.label must be a string/);
+  const summary = baseSpec();
+  summary.provenance = { contributors: [{ name: "a", weight: 1, summary: "text" }] };
+  rejects(summary, /contributors\[0\]\.summary must be an object/);
+  const nulls = baseSpec();
+  nulls.provenance = { contributors: null };
+  rejects(nulls, /contributors must be a list/);
+});
+
+test("a stored derived scale must be positive; a stated scale at most MAX_SCALE", () => {
+  const neg = baseSpec();
+  neg.tails.upper = { kind: "exponential", scale: -1, scale_rule: "continue-density" };
+  rejects(neg, /tails\.upper\.scale must be positive/);
+  const big = baseSpec();
+  big.tails.upper = { kind: "exponential", scale: 1e101, scale_rule: "stated" };
+  rejects(big, /tails\.upper\.scale must be at most 1e\+100/);
+});
+
+test("nesting deeper than MAX_DEPTH and cycles are refused, never a stack overflow", () => {
+  const deep = baseSpec();
+  let node = [];
+  for (let i = 0; i < 200000; i++) node = [node];
+  deep.provenance = { extra: { node } };
+  rejects(deep, /nest at most 32 levels deep/);
+  const text = JSON.stringify(baseSpec()).replace('"name":', `"n2":${"[".repeat(5000)}${"]".repeat(5000)},"name":`);
+  rejects(text, /nest at most 32 levels deep/);
+  const cyclic = baseSpec();
+  cyclic.provenance = { extra: {} };
+  cyclic.provenance.extra.self = cyclic.provenance;
+  rejects(cyclic, /nest at most 32 levels deep/);
+  const ok = baseSpec();
+  let shallow = 0;
+  for (let i = 0; i < 28; i++) shallow = [shallow];
+  ok.provenance = { extra: { shallow } };
+  assert.ok(validateSpec(ok));
+});

@@ -332,7 +332,7 @@ def _bad_specs() -> list[dict[str, Any]]:
     table = [
         ("unknown top-level key", base, ["colour"], "red", "'colour'"),
         ("format of another file", base, ["format"], "other-format", "format"),
-        ("newer version", base, ["version"], 2, "version 2"),
+        ("newer version", base, ["version"], 2, "version"),
         ("version not a number", base, ["version"], "1", "version"),
         ("missing interpolation", base, ["interpolation"], _DELETE, "'interpolation'"),
         ("unknown interpolation", base, ["interpolation"], "cubic", "interpolation"),
@@ -367,6 +367,17 @@ def _bad_specs() -> list[dict[str, Any]]:
          "provenance.data.sha256"),
         ("contributor weight negative", base, ["provenance", "contributors"],
          [{"name": "a", "weight": -1}], "provenance.contributors[0].weight"),
+        ("name longer than 500 characters", base, ["name"], "n" * 501, "name"),
+        ("units longer than 100 characters", base, ["units"], "u" * 101, "units"),
+        ("data label not text", base, ["provenance", "data"],
+         {"sha256": "0" * 64, "n": 3, "label": 7}, "provenance.data.label"),
+        ("contributor summary not an object", base, ["provenance", "contributors"],
+         [{"name": "a", "weight": 1, "summary": "high"}], "provenance.contributors[0].summary"),
+        ("contributors null", base, ["provenance", "contributors"], None,
+         "provenance.contributors"),
+        ("stored derived scale negative", base, ["tails", "upper", "scale"], -1.0,
+         "tails.upper.scale"),
+        ("one knot", base, ["knots"], {"x": [2], "p": [0.5]}, "knots.x"),
     ]  # fmt: skip
     out = []
     for label, spec, path, value, field in table:

@@ -21,7 +21,7 @@ from typing import Any
 import numpy as np
 import pytest
 
-ROOT = Path(__file__).resolve().parents[1]
+ROOT = Path(__file__).resolve().parents[2]
 VECTORS = ROOT / "tests" / "data" / "js-vectors.json"
 SCRIPT = ROOT / "tests" / "data" / "make_js_vectors.py"
 
