@@ -102,6 +102,7 @@ class Model:
         "_atom_mass",
         "_atom_x",
         "_cdf",
+        "_discrete",
         "_isf",
         "_logmass",
         "_logpdf",
@@ -134,7 +135,9 @@ class Model:
         logpdf: Fn | None = None,
         logmass: Fn | None = None,
         refit: Callable[..., Any] | None = None,
+        discrete: bool | None = None,
     ) -> None:
+        self._discrete = discrete
         self.name, self.kind, self.source = name, kind, source
         self._cdf, self._sf, self._pdf, self._ppf = cdf, sf, pdf, ppf
         self._isf, self._logpdf, self._logmass = isf, logpdf, logmass
@@ -168,6 +171,16 @@ class Model:
     def atom_table(self) -> tuple[np.ndarray, np.ndarray]:
         """The atoms as two arrays ``(x, mass)`` (sorted by ``x``)."""
         return self._atom_x, self._atom_mass
+
+    @property
+    def discrete(self) -> bool:
+        """Whether all the mass is in the atoms (the CDF is flat between them)."""
+        if self._discrete is None:
+            total = float(self.cdf(np.array([np.inf]))[0]) if self._atom_x.size else 0.0
+            self._discrete = bool(
+                self._atom_x.size and abs(float(self._atom_mass.sum()) - total) <= 1e-12
+            )
+        return self._discrete
 
     @property
     def continuous(self) -> bool:
@@ -356,6 +369,7 @@ def _scipy_discrete(d: Any, label: str, lo: float, hi: float) -> Model:
         atom_x=pts,
         atom_mass=mass,
         breakpoints=pts,
+        discrete=True,
     )
 
 
