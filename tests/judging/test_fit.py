@@ -7,11 +7,10 @@ import warnings
 
 import numpy as np
 import pytest
-
-from cdfsketch._validate import InputError
 import scipy.stats as st
 
 from cdfsketch import Sketch
+from cdfsketch._validate import InputError
 from cdfsketch.empirical import DataError
 from cdfsketch.fit import (
     FAMILIES,
