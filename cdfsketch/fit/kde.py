@@ -207,7 +207,17 @@ def fit_kde_to(x: np.ndarray, rule: str) -> Candidate:
         window = int(2 * _KDE_CUT * _KDE_BINS_PER_H) + 2
         model = KDEEngine(c, w[keep] / w[keep].sum(), h, window)
         note = f"linear binning of {n} points onto {c.size} grid points (spacing h/16)"
-    loglik = float(np.sum(model.logpdf(x)))
+    with np.errstate(all="ignore"):
+        loglik = float(np.sum(model.logpdf(x)))
+    if not math.isfinite(loglik):
+        raise fail(
+            "a KDE must have a finite log-likelihood",
+            f"{loglik!r} with bandwidth {h!r}",
+            "The data's spread is too small for float64 densities; rescale the data (other units).",
+            error=DataError,
+            field="bandwidth",
+            value=h,
+        )
     return Candidate(
         name=f"kde ({rule})",
         family="kde",

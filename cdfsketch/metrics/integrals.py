@@ -117,8 +117,9 @@ def _inside(ev: Evaluated) -> tuple[float, float]:
             & np.isfinite(fb)
         )
     hs, gas, gbs, fas, fbs = h[smooth], ga[smooth], gb[smooth], fa[smooth], fb[smooth]
-    one = 0.5 * hs * (gas + gbs) + hs * hs / 12.0 * (fas - fbs)
-    two = 0.5 * hs * (gas * gas + gbs * gbs) + hs * hs / 6.0 * (gas * fas - gbs * fbs)
+    # h·f is a probability: grouped so that h near 1e300 cannot overflow
+    one = hs * (0.5 * (gas + gbs) + (hs * (fas - fbs)) / 12.0)
+    two = hs * (0.5 * (gas * gas + gbs * gbs) + (hs * (gas * fas - gbs * fbs)) / 6.0)
     sign = np.where(gas + gbs >= 0, 1.0, -1.0)
     t1, t2 = float(np.dot(sign, one)), float(two.sum())
     rest = ~smooth
