@@ -13,6 +13,7 @@ from .._extras import need
 from .._progress import Progress, ProgressCallback
 from .._validate import InputError, fail, number
 from ..empirical import ECDF, as_data, dkw_eps
+from ..empirical.band import check_level
 from ..holdout import holdout_split
 from ..protocol import Model, as_model
 from .integrals import integrals
@@ -65,7 +66,7 @@ def _split(n: int, y: ArrayLike, holdout: Any, rng: Any) -> tuple[np.ndarray, np
     return train, test
 
 
-def _score_row(ev: Evaluated, band: Any) -> dict[str, Any]:
+def _score_row(ev: Evaluated, eps: float) -> dict[str, Any]:
     m = ev.model
     src = m.source
     w1, l2 = integrals(ev)
@@ -81,7 +82,7 @@ def _score_row(ev: Evaluated, band: Any) -> dict[str, Any]:
         "cvm": cvm_of(ev),
         "w1": w1,
         "crps": l2 + ev.sample.spread,
-        "dkw_excursion": band.excursion(m.cdf, left_cdf=m.cdf_left),
+        "dkw_excursion": ev.dkw_excursion(eps),
     }
 
 
@@ -187,6 +188,7 @@ def compare(
     """
     y = as_data(data)
     n = y.size
+    level = check_level(level)
     if isinstance(candidates, str | bytes) or not isinstance(candidates, Iterable):
         raise fail(
             "candidates must be an iterable of models",
@@ -226,12 +228,12 @@ def compare(
             )
         del is_test, in_order
     del order
-    band = ECDF(ys).band(level=level)
+    eps = dkw_eps(n, level=level)
     seed = int(_streams.generator(root, "refit").integers(2**63 - 1))
     report = Progress(progress, len(models), title="scoring")
     rows = []
     for m in models:
-        row = _score_row(Evaluated(m, whole), band)
+        row = _score_row(Evaluated(m, whole), eps)
         row.update(dict.fromkeys(COLUMNS[11:], None))
         if n_test:
             assert test is not None and train is not None

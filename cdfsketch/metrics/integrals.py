@@ -96,23 +96,35 @@ def _split(
 
 def _inside(ev: Evaluated) -> tuple[float, float]:
     m = ev.model
-    pts = ev.pts
-    if pts.size < 2:
+    npts = ev.pts.size
+    if npts < 2:
         return 0.0, 0.0
+    levels = ev.level_at_pts()
+    t1 = t2 = 0.0
+    for lo in range(0, npts - 1, _CHUNK * 4):  # in blocks: temporaries stay small
+        hi = min(lo + _CHUNK * 4, npts - 1)
+        q1, q2 = _block(ev, m, lo, hi, levels)
+        t1, t2 = t1 + q1, t2 + q2
+    return t1, t2
+
+
+def _block(ev: Evaluated, m: Model, lo: int, hi: int, levels: np.ndarray) -> tuple[float, float]:
+    """The integrals over the pieces ``[pts_j, pts_j+1)``, ``lo ≤ j < hi``."""
+    pts = ev.pts[lo : hi + 1]
     h = np.diff(pts)
-    lev = ev.level_at_pts()[:-1]
-    ga = ev.F[:-1] - lev  # G just right of a
-    gb = ev.F_left[1:] - lev  # G just left of b
+    lev = levels[lo:hi]
+    ga = ev.F[lo:hi] - lev  # G just right of a
+    gb = ev.F_left[lo + 1 : hi + 1] - lev  # G just left of b
     if m.discrete:  # flat between breakpoints (every atom is one)
         return float(h @ np.abs(ga)), float(h @ (ga * ga))
-    fa, fb = ev.f[:-1], ev.f[1:]
-    with np.errstate(invalid="ignore", divide="ignore"):
+    fa, fb = ev.f[lo:hi], ev.f[lo + 1 : hi + 1]
+    with np.errstate(invalid="ignore", divide="ignore", over="ignore"):
         smooth = (
-            ~ev.is_bp[:-1]
-            & ~ev.is_bp[1:]
+            ~ev.is_bp[lo:hi]
+            & ~ev.is_bp[lo + 1 : hi + 1]
             & (ga * gb >= 0)
             & (np.abs(fb - fa) <= _SMOOTH * np.maximum(fa, fb))
-            & (ev.F_left[1:] - ev.F[:-1] <= _SHORT)
+            & (ev.F_left[lo + 1 : hi + 1] - ev.F[lo:hi] <= _SHORT)
             & np.isfinite(fa)
             & np.isfinite(fb)
         )
@@ -120,12 +132,12 @@ def _inside(ev: Evaluated) -> tuple[float, float]:
     # h·f is a probability: grouped so that h near 1e300 cannot overflow
     one = hs * (0.5 * (gas + gbs) + (hs * (fas - fbs)) / 12.0)
     two = hs * (0.5 * (gas * gas + gbs * gbs) + (hs * (gas * fas - gbs * fbs)) / 6.0)
-    sign = np.where(gas + gbs >= 0, 1.0, -1.0)
-    t1, t2 = float(np.dot(sign, one)), float(two.sum())
+    t1 = float(np.abs(one).sum())  # G keeps its sign on a smooth piece
+    t2 = float(two.sum())
     rest = ~smooth
     if rest.any():
         a, b = pts[:-1][rest], pts[1:][rest]
-        a, b, lv = _split(m, a, b, ev.F[:-1][rest], ev.F_left[1:][rest], lev[rest])
+        a, b, lv = _split(m, a, b, ev.F[lo:hi][rest], ev.F_left[lo + 1 : hi + 1][rest], lev[rest])
         q1, q2 = _gl(m, a, b, lv)
         t1, t2 = t1 + q1, t2 + q2
     return t1, t2

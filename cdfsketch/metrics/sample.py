@@ -31,8 +31,6 @@ class SortedSample:
         Distinct values.
     levels : ndarray
         ``F_n`` at ``ux`` (right-continuous; the last is 1).
-    counts : ndarray of int
-        How many observations sit at each distinct value.
 
     Examples
     --------
@@ -41,7 +39,7 @@ class SortedSample:
     ([1.0, 2.0, 3.0], [0.5, 0.75, 1.0], 0.4375)
     """
 
-    __slots__ = ("counts", "levels", "n", "spread", "ux", "ys")
+    __slots__ = ("levels", "n", "spread", "ux", "ys")
 
     def __init__(
         self, y: np.ndarray, w: np.ndarray | None = None, *, presorted: bool = False
@@ -53,30 +51,39 @@ class SortedSample:
             order = np.argsort(y, kind="stable")
             ys, ws = y[order], w[order]
         self.ys = ys
-        self.n = int(ys.size)
-        new = np.empty(ys.size, dtype=bool)
+        self.n = n = int(ys.size)
+        new = np.empty(n, dtype=bool)
         new[0] = True
         np.not_equal(ys[1:], ys[:-1], out=new[1:])
-        starts = np.flatnonzero(new)
-        self.ux = ys[starts]
-        self.counts = np.diff(np.r_[starts, ys.size])
-        if ws is None:
-            cum = (starts[1:] if starts.size > 1 else np.empty(0, dtype=np.intp)).astype(float)
-            self.levels = np.r_[cum, ys.size] / ys.size
+        if ws is None and new.all():  # no ties: the distinct values are the data themselves
+            del new
+            self.ux = ys
+            levels = np.arange(1, n + 1, dtype=float)
+            levels /= n
         else:
-            mass = np.add.reduceat(ws, starts)
-            self.levels = np.cumsum(mass) / mass.sum()
-        self.levels[-1] = 1.0
-        lv = self.levels[:-1]
-        self.spread = float(np.dot(np.diff(self.ux), lv * (1.0 - lv)))
+            starts = np.flatnonzero(new)
+            del new
+            self.ux = ys[starts]
+            if ws is None:
+                levels = np.empty(starts.size)
+                levels[:-1] = starts[1:]
+                levels[-1] = n
+                levels /= n
+            else:
+                levels = np.cumsum(np.add.reduceat(ws, starts))
+                levels /= levels[-1]
+        levels[-1] = 1.0
+        self.levels = levels
+        spread = 0.0
+        for i0 in range(0, self.ux.size - 1, 1 << 18):  # in blocks: no n-sized temporaries
+            i1 = min(i0 + (1 << 18), self.ux.size - 1)
+            lv = levels[i0:i1]
+            spread += float(np.dot(np.diff(self.ux[i0 : i1 + 1]), lv * (1.0 - lv)))
+        self.spread = spread
 
     def subset(self, keep_sorted: np.ndarray) -> SortedSample:
         """The sample of the observations ``ys[keep_sorted]`` (already in order: no sort)."""
         return SortedSample(self.ys[keep_sorted], presorted=True)
-
-    def per_observation(self, at_ux: np.ndarray) -> np.ndarray:
-        """Values given at the distinct values, repeated for every sorted observation."""
-        return np.repeat(at_ux, self.counts)
 
 
 class Evaluated:
@@ -122,7 +129,27 @@ class Evaluated:
     def level_at_pts(self) -> np.ndarray:
         """``F_n`` on each piece ``[pts_j, pts_j+1)``."""
         s = self.sample
+        if self.pts is s.ux:
+            return s.levels
         return s.levels[np.searchsorted(s.ux, self.pts, side="right") - 1]
+
+    def dkw_excursion(self, eps: float) -> float:
+        """Largest distance by which the model leaves the band ``F_n ± eps`` (≤ 0: inside).
+
+        The same rule as :meth:`cdfsketch.empirical.Band.excursion`, read from the
+        values already computed, in blocks.
+        """
+        s = self.sample
+        F, FL = self.cdf_ux(), self.cdf_left_ux()
+        worst = -np.inf
+        for i0 in range(0, s.ux.size, 1 << 18):
+            i1 = min(i0 + (1 << 18), s.ux.size)
+            lv = s.levels[i0:i1]
+            below = s.levels[i0 - 1 : i1 - 1] if i0 else np.r_[0.0, lv[:-1]]
+            lo = np.maximum(lv - eps, 0.0)
+            hi = np.minimum(below + eps, 1.0)
+            worst = max(worst, float(np.max(lo - F[i0:i1])), float(np.max(FL[i0:i1] - hi)))
+        return worst
 
     def sf_ux(self) -> np.ndarray:
         """``P(X > x)`` at the distinct data values (the model's own, accurate far up)."""

@@ -57,24 +57,42 @@ def ks_of(ev: Evaluated) -> float:
     return d
 
 
+_BLOCK = 1 << 18
+
+
+def _at_obs(s: SortedSample, at_ux: np.ndarray, i0: int, i1: int) -> np.ndarray:
+    """Values given at the distinct values, for the sorted observations ``i0 … i1-1``."""
+    return at_ux[np.searchsorted(s.ux, s.ys[i0:i1])]
+
+
 def ad_of(ev: Evaluated) -> float:
     """Anderson–Darling ``A²`` from the model's CDF and survival function at the data."""
     s = ev.sample
     n = s.n
     with np.errstate(divide="ignore", invalid="ignore"):
-        logu = s.per_observation(np.log(ev.cdf_ux()))
-        log1u = s.per_observation(np.log(ev.sf_ux()))
-    i = np.arange(1, n + 1)
-    return float(-n - np.dot(2 * i - 1, logu + log1u[::-1]) / n)
+        logu, log1u = np.log(ev.cdf_ux()), np.log(ev.sf_ux())
+    total = 0.0
+    for i0 in range(0, n, _BLOCK):  # in blocks: no per-observation arrays of size n
+        i1 = min(i0 + _BLOCK, n)
+        k = np.arange(i0 + 1, i1 + 1, dtype=float)
+        lu = _at_obs(s, logu, i0, i1)
+        l1 = _at_obs(s, log1u, n - i1, n - i0)[::-1]  # ln(1 - u_{n+1-i})
+        with np.errstate(invalid="ignore"):
+            total += float(np.dot(2 * k - 1, lu + l1))
+    return float(-n - total / n)
 
 
 def cvm_of(ev: Evaluated) -> float:
     """Cramér–von Mises ``T`` from the model's CDF at the data."""
     s = ev.sample
     n = s.n
-    u = s.per_observation(ev.cdf_ux())
-    i = np.arange(1, n + 1)
-    return float(1.0 / (12 * n) + np.sum((u - (2 * i - 1) / (2 * n)) ** 2))
+    F = ev.cdf_ux()
+    total = 0.0
+    for i0 in range(0, n, _BLOCK):
+        i1 = min(i0 + _BLOCK, n)
+        k = np.arange(i0 + 1, i1 + 1, dtype=float)
+        total += float(np.sum((_at_obs(s, F, i0, i1) - (2 * k - 1) / (2 * n)) ** 2))
+    return float(1.0 / (12 * n) + total)
 
 
 def _ev(data: ArrayLike, model: Any) -> Evaluated:
