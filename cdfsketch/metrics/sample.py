@@ -19,6 +19,19 @@ from ..protocol import Model
 
 __all__ = ["Evaluated", "SortedSample"]
 
+#: points evaluated at a time (a model's own temporaries stay small)
+_BLOCK = 1 << 18
+
+
+def in_blocks(f: Any, x: np.ndarray) -> np.ndarray:
+    """``f(x)`` evaluated block by block into one float array."""
+    if x.size <= _BLOCK:
+        return np.asarray(f(x), dtype=float)
+    out = np.empty(x.size)
+    for i0 in range(0, x.size, _BLOCK):
+        out[i0 : i0 + _BLOCK] = f(x[i0 : i0 + _BLOCK])
+    return out
+
 
 class SortedSample:
     """Observations sorted once, with their (weighted) ECDF.
@@ -111,7 +124,7 @@ class Evaluated:
         else:
             pts, at_ux = ux, np.arange(ux.size)
         self.model, self.sample, self.pts, self.at_ux = model, sample, pts, at_ux
-        self.F = model.cdf(pts)
+        self.F = in_blocks(model.cdf, pts)
         ax, am = model.atom_table()
         if ax.size:
             j = np.clip(np.searchsorted(ax, pts), 0, ax.size - 1)
@@ -119,7 +132,7 @@ class Evaluated:
             self.F_left = np.maximum(self.F - mass, 0.0)
         else:
             self.F_left = self.F
-        self.f = model.pdf(pts) if not model.discrete else np.zeros(pts.size)
+        self.f = in_blocks(model.pdf, pts) if not model.discrete else np.zeros(pts.size)
         is_bp = np.zeros(pts.size, dtype=bool)
         if bp.size:
             j = np.clip(np.searchsorted(bp, pts), 0, bp.size - 1)
@@ -153,7 +166,7 @@ class Evaluated:
 
     def sf_ux(self) -> np.ndarray:
         """``P(X > x)`` at the distinct data values (the model's own, accurate far up)."""
-        return self.model.sf(self.sample.ux)
+        return in_blocks(self.model.sf, self.sample.ux)
 
     def cdf_ux(self) -> np.ndarray:
         """``P(X ≤ x)`` at the distinct data values."""
