@@ -16,6 +16,7 @@ from cdfsketch.fit import (
     FAMILIES,
     Candidate,
     CandidateList,
+    SmallSampleWarning,
     fit_candidates,
     fit_family,
     fit_kde,
@@ -118,7 +119,10 @@ def test_families_that_do_not_apply_are_skipped_with_reason():
 
 
 def test_explicit_family_skipped_warns():
-    with pytest.warns(UserWarning, match=r"beta: needs a stated range"):
+    with (
+        pytest.warns(UserWarning, match=r"beta: needs a stated range"),
+        pytest.warns(SmallSampleWarning, match=r"Only 3 data points: too few to judge normal"),
+    ):
         cands = fit_candidates([1.0, 2.0, 3.5], families=["beta", "normal"], mixtures=(), kde=False)
     assert [c.name for c in cands] == ["normal"]
 
