@@ -134,27 +134,52 @@ def invert(model: Engine, u: np.ndarray, lo: float, hi: float) -> np.ndarray:
     return out.reshape(u.shape)
 
 
+#: a mixture evaluates this many points at a time (its (points, components) arrays stay small)
+_MIX_BLOCK = 1 << 16
+
+
+def _blocked(f: Any) -> Any:
+    def run(self: Any, x: np.ndarray) -> np.ndarray:
+        v = np.asarray(x, dtype=float)
+        if v.size <= _MIX_BLOCK:
+            return f(self, v)
+        flat = v.ravel()
+        out = np.empty(flat.size)
+        for b0 in range(0, flat.size, _MIX_BLOCK):
+            out[b0 : b0 + _MIX_BLOCK] = f(self, flat[b0 : b0 + _MIX_BLOCK])
+        return out.reshape(v.shape)
+
+    run.__doc__ = f.__doc__
+    return run
+
+
 class MixtureEngine(Engine):
+    """A normal mixture: weights ``w``, means ``mu``, standard deviations ``sd``."""
+
     def __init__(self, w: np.ndarray, mu: np.ndarray, sd: np.ndarray) -> None:
         self.w, self.mu, self.sd = w, mu, sd
 
     def _z(self, x: np.ndarray) -> np.ndarray:
         return (np.asarray(x, dtype=float)[..., None] - self.mu) / self.sd
 
+    @_blocked
     def cdf(self, x: np.ndarray) -> np.ndarray:
         ndtr = special().ndtr
 
         return np.clip(ndtr(self._z(x)) @ self.w, 0.0, 1.0)
 
+    @_blocked
     def sf(self, x: np.ndarray) -> np.ndarray:
         ndtr = special().ndtr
 
         return np.clip(ndtr(-self._z(x)) @ self.w, 0.0, 1.0)
 
+    @_blocked
     def pdf(self, x: np.ndarray) -> np.ndarray:
         z = self._z(x)
         return np.exp(-0.5 * z * z) @ (self.w / (self.sd * math.sqrt(2.0 * math.pi)))
 
+    @_blocked
     def logpdf(self, x: np.ndarray) -> np.ndarray:
         z = self._z(x)
         lp = -0.5 * z * z - np.log(self.sd) - 0.5 * _LOG_2PI + np.log(self.w)

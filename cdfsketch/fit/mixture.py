@@ -21,6 +21,8 @@ _LOG_2PI = math.log(2.0 * math.pi)
 _MIXTURE_BIN_MIN = 5000
 _MIXTURE_BIN_WIDTH = 0.01
 _MIXTURE_POLISH = 10
+#: EM on more unweighted points than this accumulates its sums block by block
+_EM_BLOCK = 1 << 16
 #: EM steps of each start's loose run, and how many of the best starts then converge
 _LOOSE_STEPS = 100
 _FINISH = 3
@@ -44,6 +46,8 @@ def _em(
     components are elementwise. Returns weights, means, variances, the
     log-likelihood at the returned parameters' predecessor and the iterations.
     """
+    if cnt is None and x.size > _EM_BLOCK:
+        return _em_blocks(x, w, mu, var, floor, tol, it)
     n = float(x.size if cnt is None else cnt.sum())
     prev = -math.inf
     ll = -math.inf
@@ -67,6 +71,54 @@ def _em(
         mu = (r @ x) / nk
         d = x[None, :] - mu[:, None]
         var = np.einsum("ij,ij->i", r, d * d) / nk + floor
+        keep = w > 1e-12
+        if not keep.all():  # a component emptied: drop it
+            w, mu, var = w[keep] / w[keep].sum(), mu[keep], var[keep]
+    return w, mu, var, ll, it
+
+
+def _em_blocks(
+    x: np.ndarray,
+    w: np.ndarray,
+    mu: np.ndarray,
+    var: np.ndarray,
+    floor: float,
+    tol: float,
+    it: int,
+) -> tuple[np.ndarray, np.ndarray, np.ndarray, float, int]:
+    """:func:`_em` on many unweighted points, its sums accumulated block by block.
+
+    The same update (the variance as ``Σ r x² / n_k - μ_k²``, equal to the
+    centred form; the data are standardised) in memory bounded by the block.
+    """
+    n = float(x.size)
+    prev = -math.inf
+    ll = -math.inf
+    for i in range(1, it + 1):
+        ll = 0.0
+        nk = np.zeros(mu.size)
+        sx = np.zeros(mu.size)
+        sxx = np.zeros(mu.size)
+        const = (np.log(w) - 0.5 * np.log(var) - 0.5 * _LOG_2PI)[:, None]
+        for b0 in range(0, x.size, _EM_BLOCK):
+            xb = x[b0 : b0 + _EM_BLOCK]
+            d = xb[None, :] - mu[:, None]
+            lp = d * d * (-0.5 / var)[:, None] + const
+            top = lp.max(axis=0)
+            r = np.exp(lp - top)
+            sb = r.sum(axis=0)
+            ll += float(np.sum(top + np.log(sb)))
+            r /= sb
+            nk += r.sum(axis=1)
+            sx += r @ xb
+            sxx += r @ (xb * xb)
+        if ll - prev <= tol * n:
+            return w, mu, var, ll, i
+        prev = ll
+        nk += 1e-300
+        w = nk / n
+        mu = sx / nk
+        var = np.maximum(sxx / nk - mu * mu, 0.0) + floor
         keep = w > 1e-12
         if not keep.all():  # a component emptied: drop it
             w, mu, var = w[keep] / w[keep].sum(), mu[keep], var[keep]
