@@ -10,11 +10,13 @@ import pytest
 import scipy.stats as st
 
 from cdfsketch import Sketch
+from cdfsketch._validate import InputError
 from cdfsketch.empirical import DataError
 from cdfsketch.fit import (
     FAMILIES,
     Candidate,
     CandidateList,
+    SmallSampleWarning,
     fit_candidates,
     fit_family,
     fit_kde,
@@ -117,7 +119,10 @@ def test_families_that_do_not_apply_are_skipped_with_reason():
 
 
 def test_explicit_family_skipped_warns():
-    with pytest.warns(UserWarning, match=r"beta: needs a stated range"):
+    with (
+        pytest.warns(UserWarning, match=r"beta: needs a stated range"),
+        pytest.warns(SmallSampleWarning, match=r"Only 3 data points: too few to judge normal"),
+    ):
         cands = fit_candidates([1.0, 2.0, 3.5], families=["beta", "normal"], mixtures=(), kde=False)
     assert [c.name for c in cands] == ["normal"]
 
@@ -220,11 +225,10 @@ def test_kde_binned_close_to_scipy():
     ],
 )
 def test_binned_kde_cdf_table_within_the_hermite_error_bound(x, monkeypatch):
-    from scipy.special import ndtr
 
-    from cdfsketch import fit as fit_module
+    from cdfsketch.fit import kde as kde_module
 
-    model = fit_kde(x)._model
+    model = fit_kde(x).engine
     assert model.table is not None
     h = model.h
     pts = np.r_[
@@ -232,40 +236,42 @@ def test_binned_kde_cdf_table_within_the_hermite_error_bound(x, monkeypatch):
         model.c,
         model.c + 0.5 * h / 128,
     ]
-    exact = np.clip(model._each(pts, ndtr, True), 0.0, 1.0)
+    exact = model.direct_cdf(pts)
     # cubic Hermite error <= max|F⁗| step⁴ / 384 (Burden & Faires, Numerical Analysis,
     # Thm 3.9, from memory); F⁗ is the density's third derivative, at most
     # max|φ‴| / h⁴ with max|φ‴| = max |z³ - 3z| φ(z) = 0.5506 (computed, near z = 0.74)
     bound = 0.5506 / 128**4 / 384
     assert np.max(np.abs(model.cdf(pts) - exact)) <= bound + 1e-15
     # too many nodes for a table: each value is summed directly
-    monkeypatch.setattr(fit_module, "_KDE_TABLE_MAX", 10)
-    direct = fit_kde(x)._model
+    monkeypatch.setattr(kde_module, "_KDE_TABLE_MAX", 10)
+    direct = fit_kde(x).engine
     assert direct.table is None
     np.testing.assert_array_equal(direct.cdf(pts), exact)
 
 
 def test_binned_kde_table_is_lazy_exact_outside_and_refused_when_x_rounding_dominates():
-    from scipy.special import ndtr
 
     x = np.random.default_rng(9).normal(0.0, 1.0, 5000)  # invented, seeded
-    model = fit_kde(x)._model
-    assert model.tabled and model._table is None  # fitting alone builds no table
+    model = fit_kde(x).engine
+    assert model.tabled and not model.table_built  # fitting alone builds no table
     far = np.array([model.c[0] - 30 * model.h, np.nan, model.c[-1] + 30 * model.h])
     got = model.cdf(far)
-    assert model._table is not None
-    direct = np.clip(model._each(far, ndtr, True), 0.0, 1.0)
+    assert model.table_built
+    direct = model.direct_cdf(far)
     assert got[0] == direct[0] and 0 < got[0] < 1e-150  # the direct sum, not a floor
     assert np.isnan(got[1]) and got[2] == direct[2] == pytest.approx(1.0, abs=1e-12)
     # a spread of 1e-4 at 1e8: one ulp of x is 1.5e-8 of h, so a table would mislead (a
     # review found 2.8e-5 errors with inexact node positions); the direct sum is used
-    tight = fit_kde(1e8 + np.random.default_rng(10).normal(0, 1e-4, 5000))._model
+    tight = fit_kde(1e8 + np.random.default_rng(10).normal(0, 1e-4, 5000)).engine
     assert not tight.tabled and tight.table is None
 
 
-def test_kde_bandwidth_must_be_finite():
-    with pytest.raises(ValueError, match="bandwidth must be a positive finite number"):
-        fit_kde(np.random.default_rng(1).normal(size=3000) * 1e306)
+def test_kde_near_the_float64_limit_is_fitted_on_rescaled_data():
+    # issue 16: data near 1e306 used to overflow the bandwidth; now rescaled internally
+    x = np.random.default_rng(1).normal(size=3000) * 1e306
+    k = fit_kde(x)
+    assert np.isfinite(k.loglik) and 0 < k.params["bandwidth"] < np.inf
+    assert k.cdf(0.0) == pytest.approx(np.mean(x <= 0), abs=0.05)
 
 
 def test_kde_sample_is_smoothed_bootstrap():
@@ -351,13 +357,13 @@ def test_refit(positive):
 @pytest.mark.parametrize(
     ("kwargs", "exc", "match"),
     [
-        ({"families": ["normal", "cauchy"]}, ValueError, r"families\[1\]='cauchy'"),
-        ({"families": "normal"}, TypeError, r"Wrap it in a list"),
-        ({"mixtures": (1, 0)}, ValueError, r"mixtures\[1\]=0"),
-        ({"kde": "wide"}, ValueError, r"kde must be True, False"),
-        ({"bounds": (3, 1)}, ValueError, r"low < high"),
-        ({"bounds": "ab"}, ValueError, r"pair \(low, high\)"),
-        ({"bounds": (0, 5)}, DataError, r"within bounds=\(0.0, 5.0\); found data\[3\]=9.0"),
+        ({"families": ["normal", "cauchy"]}, InputError, r"families\[1\] must be one of.*'cauchy'"),
+        ({"families": "normal"}, InputError, r"Wrap it in a list"),
+        ({"mixtures": (1, 0)}, InputError, r"mixtures\[1\] must be an integer ≥ 1; got 0"),
+        ({"kde": "wide"}, InputError, r"kde must be one of True, False"),
+        ({"bounds": (3, 1)}, InputError, r"low < high"),
+        ({"bounds": "ab"}, InputError, r"pair \(low, high\)"),
+        ({"bounds": (0, 5)}, DataError, r"within bounds=\(0.0, 5.0\); got data\[3\]=9.0"),
         ({"progress": "yes"}, TypeError, r"progress must be None"),
     ],
 )
@@ -393,22 +399,23 @@ def test_nan_dropped_with_warning():
 
 
 def test_family_and_mixture_bad_inputs():
-    with pytest.raises(ValueError, match=r"Unknown family 'pareto'"):
+    with pytest.raises(InputError, match=r"family must be one of.*got 'pareto'") as err:
         fit_family("pareto", [1.0, 2.0])
-    with pytest.raises(ValueError, match=r"does not apply: needs all data > 0.*data\[0\]=-1.0"):
+    assert err.value.field == "family" and err.value.found == "pareto"
+    with pytest.raises(DataError, match=r"must apply to the data; got needs all data > 0.*\[0\]"):
         fit_family("gamma", [-1.0, 2.0])
-    with pytest.raises(ValueError, match=r"k must be a positive integer; got 0"):
+    with pytest.raises(InputError, match=r"k must be an integer ≥ 1; got 0"):
         fit_normal_mixture([1.0, 2.0, 3.0], 0)
-    with pytest.raises(ValueError, match=r"needs at least 8 observations; got 3"):
+    with pytest.raises(DataError, match=r"needs at least 8 observations; got 3"):
         fit_normal_mixture([1.0, 2.0, 3.0], 4)
-    with pytest.raises(ValueError, match=r"starts must be a positive integer"):
+    with pytest.raises(InputError, match=r"starts must be an integer ≥ 1"):
         fit_normal_mixture([1.0, 2.0, 3.0], 1, starts=0)
-    with pytest.raises(ValueError, match=r"bandwidth must be 'scott' or 'silverman'"):
+    with pytest.raises(InputError, match=r"bandwidth must be one of 'scott', 'silverman'"):
         fit_kde([1.0, 2.0], bandwidth="isj")
     c = fit_family("normal", [1.0, 2.0, 4.0])
-    with pytest.raises(ValueError, match=r"knots must be an integer ≥ 2; got 1"):
+    with pytest.raises(InputError, match=r"knots must be an integer ≥ 2; got 1"):
         c.to_sketch(knots=1)
-    with pytest.raises(ValueError, match=r"tail_mass must be a number in \(0, 0.5\)"):
+    with pytest.raises(InputError, match=r"tail_mass must be a finite number in \(0, 0.5\)"):
         c.to_sketch(tail_mass=0.7)
     with pytest.raises(ValueError, match=r"probabilities in \[0, 1\]; got 1.5 at flat index 1"):
         c.ppf([0.5, 1.5])

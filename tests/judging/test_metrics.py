@@ -10,7 +10,8 @@ import pytest
 import scipy.stats as st
 
 from cdfsketch import BoundedTail, Sketch
-from cdfsketch.empirical import ECDF, DataError
+from cdfsketch._validate import InputError
+from cdfsketch.empirical import ECDF, DataError, DroppedValuesWarning
 from cdfsketch.fit import fit_candidates
 from cdfsketch.metrics import (
     ComparisonTable,
@@ -295,36 +296,37 @@ def test_compare_uses_mixed_density_at_atoms():
 # ---------------------------------------------------------------- bad inputs
 def test_compare_bad_inputs(nile):
     s = Sketch([400, 1400], [0, 1])
-    with pytest.raises(ValueError, match=r"holdout must be a fraction strictly between 0 and 1"):
+    with pytest.raises(InputError, match=r"holdout must be a finite number in \(0, 1\)"):
         compare(nile, [s], holdout=1.5)
-    with pytest.raises(TypeError, match=r"holdout must be a fraction in \(0, 1\) or None"):
+    with pytest.raises(InputError, match=r"holdout must be a finite number.*\(str\)"):
         compare(nile, [s], holdout="a")
-    with pytest.raises(TypeError, match=r"candidates\[1\] must be a Candidate, a Sketch"):
+    with pytest.raises(InputError, match=r"candidates\[1\] must be a Sketch, a fitted Candidate"):
         compare(nile, [s, 3.0])
-    with pytest.raises(TypeError, match=r"candidates must be an iterable of models"):
+    with pytest.raises(InputError, match=r"candidates must be an iterable of models"):
         compare(nile, s)
-    with pytest.raises(ValueError, match=r"candidates is empty"):
+    with pytest.raises(InputError, match=r"candidates must hold at least one model"):
         compare(nile, [])
     with pytest.raises(DataError, match=r"inf"):
         compare([1.0, 2.0, np.inf], [s])
-    with pytest.raises(ValueError, match=r"leaves 1 for training and 2 held out; need"):
-        compare([1.0, 2.0, 3.0], [s], holdout=0.5)
-    with pytest.raises(ValueError, match=r"level must lie strictly between 0 and 1"):
+    with pytest.raises(InputError, match=r"at least 2 points for training and 1 held out"):
+        compare([1.0, 2.0, 3.0], [s], holdout=0.9)
+    with pytest.raises(InputError, match=r"level must be a finite number in \(0, 1\)"):
         compare(nile, [s], level=1.0)
     assert compare(nile, [s], holdout=None).rows[0]["log_score"] is None
 
 
 def test_metric_bad_inputs():
     d = st.norm()
-    with pytest.raises(ValueError, match=r"one-dimensional; got shape \(2, 2\)"):
+    with pytest.raises(DataError, match=r"one-dimensional.*; got shape \(2, 2\)"):
         ks_distance([[1, 2], [3, 4]], d)
-    with pytest.raises(ValueError, match=r"must be finite; found data\[1\]=nan"):
-        cramer_von_mises([1.0, np.nan], d)
-    with pytest.raises(ValueError, match=r"data is empty"):
+    # one data door: a missing value is dropped with a counted warning, as everywhere
+    with pytest.warns(DroppedValuesWarning, match="Dropped 1 missing"):
+        assert cramer_von_mises([1.0, np.nan], d) == pytest.approx(cramer_von_mises([1.0], d))
+    with pytest.raises(DataError, match=r"at least one value; got none"):
         anderson_darling([], d)
-    with pytest.raises(ValueError, match=r"got 1 weights for 2 values"):
+    with pytest.raises(DataError, match=r"got 1 weights for 2 values"):
         wasserstein1([1.0, 2.0], d, weights=[1.0])
-    with pytest.raises(ValueError, match=r"weights\[0\]=-1.0"):
+    with pytest.raises(DataError, match=r"weights\[0\]=-1.0"):
         wasserstein1([1.0, 2.0], d, weights=[-1.0, 2.0])
-    with pytest.raises(TypeError, match=r"object with cdf\(\) and ppf\(\)"):
+    with pytest.raises(InputError, match=r"object with cdf, sf, pdf, ppf, support"):
         crps(0.0, object())
