@@ -46,11 +46,10 @@ from typing import Any, NoReturn
 import numpy as np
 
 from ._files import check_output_path, write_text
-from ._limits import MAX_SPEC_BYTES
 from ._numfmt import significant
-from ._validate import InputError, SpecError, quote
+from ._validate import InputError, quote
 from ._version import __version__
-from .inputs import INPUTSET_FORMAT, WINDOW, InputSet, inputset_from_dict, spec_digest
+from .inputs import WINDOW, InputSet, spec_digest
 from .inputs.describe import finite_list, inputset_record, plain, quantile_table, sketch_record
 from .inputs.output import (
     SUFFIXES,
@@ -60,6 +59,7 @@ from .inputs.output import (
     space_problem,
     write_draws,
 )
+from .loading import load, validate_spec
 from .sketch import Sketch
 
 __all__ = ["main"]
@@ -138,59 +138,14 @@ def _points(text: str) -> int:
 # ---------------------------------------------------------------- reading inputs
 
 
-def _read_json(path: Path) -> Any:
-    size = path.stat().st_size
-    if size > MAX_SPEC_BYTES:
-        raise SpecError(
-            f"The file must be at most {MAX_SPEC_BYTES:,} bytes; got {size:,}. Keep specs small "
-            "(thin the knots) and refer to them by path from an input set."
-        )
-    try:
-        return json.loads(path.read_text(encoding="utf-8"), parse_constant=_no_constant)
-    except json.JSONDecodeError as exc:
-        raise SpecError(
-            f"The file must be valid JSON; got {exc.msg} at line {exc.lineno}, column "
-            f"{exc.colno}. Fix it, or write it again from Python (to_json)."
-        ) from None
-    except UnicodeDecodeError:
-        raise SpecError("The file must be UTF-8 text; got other bytes. Save it as UTF-8.") from None
-
-
-def _no_constant(name: str) -> NoReturn:
-    raise SpecError(f"The file must be plain JSON; got {name}. Leave such values out.")
-
-
-def _format_of(data: Any) -> str:
-    from .spec import FORMAT
-
-    fmt = data.get("format") if isinstance(data, dict) else None
-    if fmt not in (FORMAT, INPUTSET_FORMAT):
-        raise SpecError(
-            f"The file's format must be {FORMAT!r} or {INPUTSET_FORMAT!r}; got {quote(fmt)}. "
-            "This is not a cdfsketch file."
-        )
-    return fmt
-
-
 def _load(path: Path) -> Sketch | InputSet:
-    """THE loading door of the command line: a spec or an input set from a file."""
-    data = _read_json(path)
-    if _format_of(data) == INPUTSET_FORMAT:
-        return inputset_from_dict(data, base_dir=path.parent)
-    from .spec import load
-
-    return load(data)
+    """THE loading door of the command line: :func:`cdfsketch.load`, a spec or an input set."""
+    return load(path)
 
 
 def _validate(path: Path) -> None:
-    """THE checking door: schema and CDF rules for a spec, every rule for an input set."""
-    data = _read_json(path)
-    if _format_of(data) == INPUTSET_FORMAT:
-        inputset_from_dict(data, base_dir=path.parent)
-        return
-    from .spec import validate_spec
-
-    validate_spec(data)
+    """THE checking door: :func:`cdfsketch.validate_spec` (schema and CDF rules, either format)."""
+    validate_spec(path)
 
 
 def _input_file(text: str) -> Path:

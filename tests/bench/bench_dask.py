@@ -23,7 +23,7 @@ import time
 import numpy as np
 
 from cdfsketch import Sketch
-from cdfsketch.consequences import consequences
+from cdfsketch.outcomes import consequences
 from cdfsketch.scale import WINDOW
 
 SMOKE = 2_000_000
@@ -81,7 +81,7 @@ def main(quick: bool = False, size: int | None = None) -> dict[str, float]:
         Client(cluster) as client,
     ):
         # workers up, the package imported there, before timing (a one-time cost)
-        client.run(lambda: __import__("cdfsketch.consequences.run"))
+        client.run(lambda: __import__("cdfsketch.outcomes.run"))
         t0 = time.perf_counter()
         res = consequences(cheap, {"x": sketch}, **kw)
         t_dask = time.perf_counter() - t0

@@ -9,8 +9,8 @@ import pytest
 
 from cdfsketch import Sketch
 from cdfsketch._validate import InputError
-from cdfsketch.consequences import consequences
-from cdfsketch.consequences.stats import (
+from cdfsketch.outcomes import consequences
+from cdfsketch.outcomes.stats import (
     block_stats,
     combine,
     histogram_quantile,

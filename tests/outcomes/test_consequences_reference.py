@@ -8,7 +8,7 @@ import numpy as np
 import pytest
 
 from cdfsketch import BoundedTail, ExponentialTail, Sketch
-from cdfsketch.consequences import consequences
+from cdfsketch.outcomes import consequences
 from cdfsketch.inputs import InputSet
 
 # Invented shapes with no meaning: a right-skewed one with an exponential tail,

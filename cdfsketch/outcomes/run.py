@@ -4,7 +4,7 @@ One entry point, :func:`consequences`, in memory or — with ``chunks=`` — on
 Dask. Both draw the input set's windows of 2¹⁶ points (the stream blocks of
 :mod:`cdfsketch.scale.blocks`; the draws equal ``inputs.sample(size, rng=rng,
 ...)``) and combine the same per-block statistics
-(:mod:`cdfsketch.consequences.stats`), so for the same ``rng`` and ``size``
+(:mod:`cdfsketch.outcomes.stats`), so for the same ``rng`` and ``size``
 the means, sds, exceedance probabilities and all their differences and
 standard errors are bit-identical in memory and on any Dask scheduler, for
 any ``chunks``.

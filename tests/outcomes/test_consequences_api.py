@@ -11,8 +11,8 @@ import pytest
 import cdfsketch
 from cdfsketch import Sketch
 from cdfsketch._validate import InputError
-from cdfsketch.consequences import Consequences, ModelError, consequences
-from cdfsketch.consequences.verdict import judge, overall, sentence
+from cdfsketch.outcomes import Consequences, ModelError, consequences
+from cdfsketch.outcomes.verdict import judge, overall, sentence
 from cdfsketch.inputs import InputSet
 
 A = Sketch([1, 3, 8], [0, 0.6, 1], name="now")
@@ -94,10 +94,10 @@ def test_fitted_candidates_work_like_sketches():
     assert res.candidates == ("now", "gamma")
 
 
-def test_callable_package_and_top_level_name():
-    import cdfsketch.consequences as pkg
+def test_top_level_name_is_the_function():
+    import cdfsketch.outcomes  # importing the package must not shadow the function
 
-    assert isinstance(pkg(cost, INS, vary="hours", candidates=[A], size=100, rng=1), Consequences)
+    assert cdfsketch.consequences is cdfsketch.outcomes.consequences
     assert isinstance(
         cdfsketch.consequences(cost, INS, vary="hours", candidates=[A], size=100, rng=1),
         Consequences,
