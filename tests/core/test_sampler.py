@@ -48,7 +48,7 @@ def test_memory_is_order_chunk_not_n():
     [
         (lambda f: f.sample(-1), "non-negative integer"),
         (lambda f: f.sample((2, "a")), "non-negative integer"),
-        (lambda f: f.sample(3, chunk=0), "chunk must be a positive integer"),
+        (lambda f: f.sample(3, chunk=0), r"chunk must be an integer ≥ 1; got 0"),
         (lambda f: f.ppf(2.0), r"probabilities in \[0, 1\]"),
         (lambda f: f.ppf(np.nan), "NaN"),
     ],
@@ -59,7 +59,7 @@ def test_bad_input(call, match):
 
 
 def test_bad_tolerance():
-    with pytest.raises(ValueError, match="u_tolerance must be a float"):
+    with pytest.raises(ValueError, match=r"u_tolerance must be a finite number in \(0, 0.001\); got 0.5"):
         Sampler(Sketch([0, 1], [0, 1]), u_tolerance=0.5)
 
 
