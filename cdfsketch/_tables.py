@@ -35,7 +35,7 @@ from dataclasses import dataclass
 
 import numpy as np
 
-from . import _pieces
+from . import _inverse, _pieces
 from .tails import ResolvedExponentialTail
 
 _LOBATTO = (1.0 - 1.0 / math.sqrt(5.0)) / 2.0
@@ -79,7 +79,7 @@ def compile_tables(pc: _pieces.Pieces, tol: float) -> Tables:
     # the exact inverse at every cell edge: each cell's values must lie between its two
     # edges' (then x(u) never steps down from one cell to the next); a fast cell whose
     # rounded ends do not is made slow, and the slow path clips to them
-    edges = _pieces.ppf(pc, np.arange(cells + 1) / cells)
+    edges = _inverse.ppf(pc, np.arange(cells + 1) / cells)
     edges = np.r_[edges, edges[-1]]  # the extra cell j = M (u = 1) ends there too
     _keep_between_edges(a, b, c, d, edges)
     cubic = bool(np.any(c != 0) or np.any(d != 0))
@@ -88,7 +88,7 @@ def compile_tables(pc: _pieces.Pieces, tol: float) -> Tables:
     # the slow path: exact or adaptive intervals over the slow cells only
     ul, ur, coef, kind, w = _body_intervals(pc, regions, tol, _slow_ranges(a, cells))
     # atoms and linear pieces are inverted there by the closed form the cells were built
-    # from (_pieces.linear_inverse): monotone in u, so slow and fast draws keep their
+    # from (_inverse.linear_inverse): monotone in u, so slow and fast draws keep their
     # order; an atom is a piece of zero width
     lin = kind == 2
     piece = np.where(lin, w, 0)
@@ -157,7 +157,7 @@ def _body_intervals(
     b = zeros.copy()
     lin = np.flatnonzero(k == 2)
     if lin.size:  # inverted in closed form (Sampler._closed_form); a is their start
-        a[lin] = _pieces.invert_pieces(pc, w[lin], lo[lin])
+        a[lin] = _inverse.invert_pieces(pc, w[lin], lo[lin])
     simple = k != 3
     rows = (lo, hi, a, b, zeros, zeros, k, w)
     blocks = [np.vstack([row[simple] for row in rows])]
@@ -232,7 +232,7 @@ def _cubic_intervals(
         count += todo_l.size
         w = todo_r - todo_l
         tau_coef, ok, x_lo, x_hi = _fit_inverse_cubics(pc, todo_j, todo_l, todo_r, tol)
-        few = _pieces.order_key(x_hi) <= _pieces.order_key(x_lo) + _FEW_ULPS
+        few = _inverse.order_key(x_hi) <= _inverse.order_key(x_lo) + _FEW_ULPS
         line = ~ok & ((w <= tol) | few | (count > budget))
         tau_coef[:, line] = 0.0
         tau_coef[0, line] = x_lo[line]
@@ -348,8 +348,8 @@ def _cell_tables(
     sel = fast & (k == 2)
     if sel.any():
         j = which[r[sel]]
-        x_lo = _pieces.invert_pieces(pc, j, lo[sel])
-        x_hi = _pieces.invert_pieces(pc, j, hi[sel])
+        x_lo = _inverse.invert_pieces(pc, j, lo[sel])
+        x_hi = _inverse.invert_pieces(pc, j, hi[sel])
         # x_lo + b τ never passes x_hi (the next cell's first value): a fast cell has j ≥ 1,
         # so τ ≤ 1 - 2⁻⁵², and b = x_hi - x_lo rounded is at most (1 + 2⁻⁵³) times the exact
         # difference, so b τ rounded stays below it; rounding the sum is monotone
@@ -421,7 +421,7 @@ def _fit_inverse_cubics(
     u_nodes = lo[:, None] + w[:, None] * _FIT_TAU[None, :]
     u_nodes[:, -1] = hi
     jj = np.repeat(j, _FIT_TAU.size)
-    x_nodes = _pieces.invert_pieces(pc, jj, u_nodes.ravel()).reshape(u_nodes.shape)
+    x_nodes = _inverse.invert_pieces(pc, jj, u_nodes.ravel()).reshape(u_nodes.shape)
     # fit x - x(lo): small numbers, so rounding of large x does not pollute the fit
     x0 = x_nodes[:, :1]
     tau_coef = (x_nodes - x0) @ _FIT_INV.T

@@ -29,7 +29,7 @@ from typing import TYPE_CHECKING, Any
 
 import numpy as np
 
-from . import _pieces
+from . import _inverse, _pieces
 from ._tables import compile_tables
 from ._validate import InputError, fail, integer, number, probabilities, shape
 
@@ -205,7 +205,7 @@ class Sampler:
 
     def _closed_form(self, k: np.ndarray, u: np.ndarray) -> np.ndarray:
         """The closed form of ``invert_pieces`` on the atom and linear-piece intervals ``k``."""
-        return _pieces.linear_inverse(*(row[k] for row in self._closed_rows), u)
+        return _inverse.linear_inverse(*(row[k] for row in self._closed_rows), u)
 
     def ppf(self, u: Any) -> Any:
         """Table inverse at probabilities ``u`` (e.g. Latin hypercube or Sobol points).

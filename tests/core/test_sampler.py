@@ -59,7 +59,7 @@ def test_bad_input(call, match):
 
 
 def test_bad_tolerance():
-    with pytest.raises(ValueError, match=r"u_tolerance must be a finite number in \(0, 0.001\); got 0.5"):
+    with pytest.raises(ValueError, match=r"u_tolerance must be a finite number in \(0, 0.001\)"):
         Sampler(Sketch([0, 1], [0, 1]), u_tolerance=0.5)
 
 

@@ -156,7 +156,7 @@ def test_replace_validates_and_rejects_unknown_fields():
     ("args", "kwargs", "exc", "match"),
     [
         (([0, 1], [0, 1]), {"interpolation": "cubic"}, ValueError, "interpolation must be one of"),
-        (([0, 1], [0, 1]), {"lower_tail": "bounded"}, ValueError, "lower_tail must be a BoundedTail"),
+        (([0, 1], [0, 1]), {"lower_tail": "bounded"}, ValueError, "lower_tail must be a Bounded"),
         (([0, 1], [0, 1]), {"name": 3}, ValueError, "name must be a str; got int 3"),
         (([0, 1], [0, 1]), {"provenance": [1]}, ValueError, "provenance must be a mapping"),
         (([0, 1], [0.5, 1]), {"lower_tail": BoundedTail(0.5)}, KnotError, "limit below"),
