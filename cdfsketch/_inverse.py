@@ -11,7 +11,7 @@ from __future__ import annotations
 
 import numpy as np
 
-from ._pieces import Pieces, dpoly, piece_cdf, poly, support
+from ._pieces import Pieces, dpoly, poly, support
 
 
 def linear_inverse(
@@ -110,30 +110,52 @@ def bisect_pieces(pc: Pieces, j: np.ndarray, u: np.ndarray) -> np.ndarray:
     the computed ``F`` wiggle by an ulp (a density near zero), ``ppf`` never
     steps down. ``u`` lies in ``(pl, pr]`` of its piece.
     """
-    lo = order_key(pc.xa[j])
-    hi = order_key(pc.xb[j])
-    idx = np.arange(u.size)
-    uu, jj = u, j
-    for _ in range(64):
-        live = hi[idx] > lo[idx] + 1
-        if not live.all():
-            idx, uu, jj = idx[live], uu[live], jj[live]
-        if idx.size == 0:
-            break
-        a, b = lo[idx], hi[idx]
-        mid = (a >> 1) + (b >> 1) + (a & b & 1)  # floor of the mean, without overflow
-        up = piece_cdf(pc, jj, from_order_key(mid)) >= uu
-        hi[idx[up]] = mid[up]
-        lo[idx[~up]] = mid[~up]
+    hi = np.empty(u.shape, dtype=np.int64)
+    right = pc.right[j]
+    for side in (False, True):
+        sel = np.flatnonzero(right == side)
+        if sel.size:
+            hi[sel] = _bisect_side(pc, j[sel], u[sel], side)
     return from_order_key(hi)
 
 
-def ppf(pc: Pieces, u: np.ndarray) -> np.ndarray:
+def _bisect_side(pc: Pieces, j: np.ndarray, u: np.ndarray, right: bool) -> np.ndarray:
+    """:func:`bisect_pieces` for pieces evaluated from one end (``piece_cdf``'s arithmetic).
+
+    Every point takes the same number of steps: once ``hi = lo + 1`` the
+    midpoint is ``lo``, whose predicate is false (tested, or ``F(xa) = pl < u``),
+    so further steps change nothing and no point needs to be set aside.
+    """
+    lo = order_key(pc.xa[j])
+    hi = order_key(pc.xb[j])
+    xa, xb, h, pl, pr = pc.xa[j], pc.xb[j], pc.h[j], pc.pl[j], pc.pr[j]
+    c = pc.e[:, j] if right else pc.c[:, j]
+    steps = int(np.max(np.ceil(np.log2(np.maximum(hi.astype(float) - lo.astype(float), 1.0))))) + 2
+    for _ in range(min(steps, 66)):
+        mid = (lo >> 1) + (hi >> 1) + (lo & hi & 1)  # floor of the mean, without overflow
+        v = from_order_key(mid)
+        if right:
+            s = (xb - v) / h
+            f = pr - s * (c[0] + s * (c[1] + s * c[2]))
+            f[v <= xa] = pl[v <= xa]
+        else:
+            t = (v - xa) / h
+            f = c[0] + t * (c[1] + t * (c[2] + t * c[3]))
+        up = np.minimum(np.maximum(f, pl), pr) >= u
+        hi = np.where(up, mid, hi)
+        lo = np.where(up, lo, mid)
+    return hi
+
+
+def ppf(pc: Pieces, u: np.ndarray, *, exact: bool = True) -> np.ndarray:
     """Generalized inverse: the smallest x with F(x) ≥ u, for u in [0, 1].
 
     Linear pieces are inverted in closed form; the others by
     :func:`bisect_pieces` on the same ``F`` as :func:`cdf`; tails by their
     closed forms. Every step is monotone in ``u``, so ``ppf`` is too.
+    ``exact=False`` solves the other pieces by :func:`invert_pieces` instead
+    (faster, to rounding, not monotone by construction): the sampler's
+    tables are fitted through those values.
     """
     out = np.empty(u.shape)
     lo_end, hi_end = pc.p_low, pc.p_high
@@ -154,7 +176,8 @@ def ppf(pc: Pieces, u: np.ndarray) -> np.ndarray:
     x = np.empty(ui.shape)
     jl = ji[lin]
     x[lin] = linear_inverse(pc.xa[jl], pc.h[jl], pc.c[0, jl], pc.c[1, jl], pc.xb[jl], ui[lin])
-    x[~lin] = bisect_pieces(pc, ji[~lin], ui[~lin])
+    solve = bisect_pieces if exact else invert_pieces
+    x[~lin] = solve(pc, ji[~lin], ui[~lin])
     r[inv] = x
     res[~past] = r
     out[body] = res

@@ -22,7 +22,8 @@
   tolerance (``x`` lies between the exact inverses at its ends). So every
   valid sketch compiles; the interval count grows with the pieces, never
   without bound;
-* ``edges``: the exact inverse at every cell edge; every result is clipped
+* ``edges``: the inverse at every cell edge (by the solver the cells are
+  fitted with, made non-decreasing); every result is clipped
   between its cell's two edges and, on an interval, below the exact end of
   its piece, so ``x(u)`` never steps down from one cell, interval or tail to
   the next.
@@ -76,10 +77,11 @@ def compile_tables(pc: _pieces.Pieces, tol: float) -> Tables:
     cells = _cell_count(int(np.sum(pc.nonlinear() & carries)), int(np.sum(carries)))
     regions = _regions(pc)
     a, b, c, d = _cell_tables(pc, regions, cells, tol)
-    # the exact inverse at every cell edge: each cell's values must lie between its two
-    # edges' (then x(u) never steps down from one cell to the next); a fast cell whose
-    # rounded ends do not is made slow, and the slow path clips to them
-    edges = _inverse.ppf(pc, np.arange(cells + 1) / cells)
+    # the inverse at every cell edge, by the solver the cells are fitted with, made
+    # non-decreasing: each cell's values must lie between its two edges' (then x(u) never
+    # steps down from one cell to the next); a fast cell whose rounded ends do not is made
+    # slow, and the slow path clips to them
+    edges = np.maximum.accumulate(_inverse.ppf(pc, np.arange(cells + 1) / cells, exact=False))
     edges = np.r_[edges, edges[-1]]  # the extra cell j = M (u = 1) ends there too
     _keep_between_edges(a, b, c, d, edges)
     cubic = bool(np.any(c != 0) or np.any(d != 0))
@@ -208,8 +210,8 @@ def _cubic_intervals(
 ) -> tuple[np.ndarray, ...]:
     """Adaptive cubic interpolation of the inverse on ranges ``(lo, hi]`` of cubic pieces ``j``.
 
-    A range wider than a cell starts as 8 equal intervals, a narrower one as
-    one; an interval that fails the checks of :func:`_fit_inverse_cubics` is
+    Each range starts as 8 equal intervals (as one when there are thousands
+    of ranges, e.g. a sketch with more cubic pieces than cells); an interval that fails the checks of :func:`_fit_inverse_cubics` is
     halved, all ranges at once. An interval whose ``u``-width is at most
     ``tol``, or whose exact end points are at most :data:`_FEW_ULPS` doubles
     apart, becomes the straight line between them (see the module
@@ -217,7 +219,7 @@ def _cubic_intervals(
     ``ul, ur, a, b, c, d`` (coefficients in ``s = u - ul``) and the piece of
     each interval.
     """
-    parts = np.where(hi - lo > 2.0**-12, 8, 1)
+    parts = np.full(j.size, 8 if j.size <= 4096 else 1)
     todo_j = np.repeat(j, parts)
     start = np.repeat(np.cumsum(parts) - parts, parts)
     frac = (np.arange(todo_j.size) - start) / np.repeat(parts, parts)
