@@ -11,7 +11,7 @@ from __future__ import annotations
 
 import numpy as np
 
-from ._pieces import Pieces, dpoly, poly, support
+from ._pieces import Pieces, dpoly, left_cdf, poly, right_cdf, support
 
 
 def linear_inverse(
@@ -22,7 +22,8 @@ def linear_inverse(
     :func:`invert_pieces` and the sampler's slow path both use it, so the two
     agree bit for bit (the sampler relies on that for the order of its draws).
     """
-    return np.minimum(xa + h * np.clip((u - c0) / c1, 0.0, 1.0), xb)
+    with np.errstate(over="ignore", divide="ignore", invalid="ignore"):  # c1 of 1 ulp
+        return np.minimum(xa + h * np.clip((u - c0) / c1, 0.0, 1.0), xb)
 
 
 def invert_pieces(pc: Pieces, j: np.ndarray, u: np.ndarray) -> np.ndarray:
@@ -100,10 +101,12 @@ def from_order_key(k: np.ndarray) -> np.ndarray:
 
 
 def bisect_pieces(pc: Pieces, j: np.ndarray, u: np.ndarray) -> np.ndarray:
-    """The smallest ``x`` in piece ``j`` with :func:`piece_cdf` ``≥ u``: bisection over the doubles.
+    """The smallest ``x`` in piece ``j`` with ``F(x) ≥ u``, by bisection over the doubles.
 
-    The walk halves the count of doubles in ``(lo, hi]`` (at most 64 steps,
-    whatever the scale). Monotone in ``u`` by construction: every ``u`` in a
+    The walk first takes the half of the piece where ``u`` lies (``u ≤ pm``:
+    ``(xa, xm]``, else ``(xm, xb]``), then halves the count of doubles in
+    ``(lo, hi]`` (at most 64 steps, whatever the scale). Monotone in ``u`` by
+    construction: every ``u`` in a
     piece walks the same tree of midpoints, and where the walks of
     ``u₁ < u₂`` part, ``u₁`` goes left of that midpoint and ``u₂`` right
     (``F(mid) ≥ u₂`` implies ``F(mid) ≥ u₁``). So even where rounding makes
@@ -111,37 +114,39 @@ def bisect_pieces(pc: Pieces, j: np.ndarray, u: np.ndarray) -> np.ndarray:
     steps down. ``u`` lies in ``(pl, pr]`` of its piece.
     """
     hi = np.empty(u.shape, dtype=np.int64)
-    right = pc.right[j]
+    right = u > pc.pm[j]  # a first node of the walk, the same for every u: the halves
     for side in (False, True):
         sel = np.flatnonzero(right == side)
         if sel.size:
-            hi[sel] = _bisect_side(pc, j[sel], u[sel], side)
+            hi[sel] = _bisect_half(pc, j[sel], u[sel], side)
     return from_order_key(hi)
 
 
-def _bisect_side(pc: Pieces, j: np.ndarray, u: np.ndarray, right: bool) -> np.ndarray:
-    """:func:`bisect_pieces` for pieces evaluated from one end (``piece_cdf``'s arithmetic).
+def _bisect_half(pc: Pieces, j: np.ndarray, u: np.ndarray, right: bool) -> np.ndarray:
+    """:func:`bisect_pieces` on one half of pieces ``j`` (``(xa, xm]`` or ``(xm, xb]``).
 
     Every point takes the same number of steps: once ``hi = lo + 1`` the
-    midpoint is ``lo``, whose predicate is false (tested, or ``F(xa) = pl < u``),
-    so further steps change nothing and no point needs to be set aside.
+    midpoint is ``lo``, whose predicate is false (tested, or ``F(lo) < u`` at
+    the start), so further steps change nothing and no point is set aside.
     """
-    lo = order_key(pc.xa[j])
-    hi = order_key(pc.xb[j])
-    xa, xb, h, pl, pr = pc.xa[j], pc.xb[j], pc.h[j], pc.pl[j], pc.pr[j]
-    c = pc.e[:, j] if right else pc.c[:, j]
-    steps = int(np.max(np.ceil(np.log2(np.maximum(hi.astype(float) - lo.astype(float), 1.0))))) + 2
+    if right:
+        lo, hi = order_key(pc.xm[j]), order_key(pc.xb[j])
+        args = (pc.xb[j], pc.h[j], pc.e[:, j], pc.pm[j], pc.pr[j])
+        cdf = right_cdf
+    else:
+        lo, hi = order_key(pc.xa[j]), order_key(pc.xm[j])
+        args = (pc.xa[j], pc.h[j], pc.c[:, j], pc.pl[j], pc.pm[j])
+        cdf = left_cdf
+    # doubles in the bracket: exact in integers unless the bracket straddles zero
+    # (where the difference could overflow and a float is close enough)
+    straddle = (lo < 0) & (hi >= 0)
+    count = np.where(
+        straddle, hi.astype(float) - lo.astype(float), (hi - lo * ~straddle).astype(float)
+    )
+    steps = int(np.max(np.ceil(np.log2(np.maximum(count, 1.0))))) + 2
     for _ in range(min(steps, 66)):
         mid = (lo >> 1) + (hi >> 1) + (lo & hi & 1)  # floor of the mean, without overflow
-        v = from_order_key(mid)
-        if right:
-            s = (xb - v) / h
-            f = pr - s * (c[0] + s * (c[1] + s * c[2]))
-            f[v <= xa] = pl[v <= xa]
-        else:
-            t = (v - xa) / h
-            f = c[0] + t * (c[1] + t * (c[2] + t * c[3]))
-        up = np.minimum(np.maximum(f, pl), pr) >= u
+        up = cdf(*args, from_order_key(mid)) >= u
         hi = np.where(up, mid, hi)
         lo = np.where(up, lo, mid)
     return hi

@@ -33,9 +33,11 @@ class Pieces:
 
     ``c`` holds ``F`` from the left end, ``F = c0 + t (c1 + t (c2 + t c3))``;
     ``e`` the same polynomial from the right end, ``F = pr - s (e0 + s (e1 + s e2))``
-    with ``s = (xb - x) / h``. A piece whose density is smaller at its right
-    end (``right``) is evaluated from there, so near a knot where the density
-    vanishes ``F`` is computed to a few ulps of ``pr - F``, not of ``F``.
+    with ``s = (xb - x) / h``. ``F`` is evaluated from the nearer end: from
+    the left up to the piece's midpoint ``xm`` (capped at ``pm = F(xm)``),
+    from the right beyond it (floored at ``pm``). So near a knot where the
+    density vanishes ``F`` is computed to a few ulps of its distance from the
+    knot's ``p``, not of ``F``, and the two halves meet without a step down.
     """
 
     xa: np.ndarray
@@ -43,7 +45,8 @@ class Pieces:
     h: np.ndarray
     c: np.ndarray  # shape (4, m)
     e: np.ndarray  # shape (3, m)
-    right: np.ndarray  # bool, shape (m,)
+    xm: np.ndarray  # where evaluation switches ends (≈ the piece's middle)
+    pm: np.ndarray  # F(xm)
     pl: np.ndarray
     pr: np.ndarray
     atom_x: np.ndarray
@@ -170,21 +173,20 @@ def build_pieces(
     n = x.size
     p0, pn = float(p[0]), float(p[-1])
     d = knot_slopes(x, p, interpolation, _derives(lower, p0), _derives(upper, 1.0 - pn))
-    xa, hh, cs, es, right, atom_x, atom_m = [], [], [], [], [], [], []
+    xa, hh, cs, es, atom_x, atom_m = [], [], [], [], [], []
     lower_exp = upper_exp = None
 
-    def add(x0: float, h: float, c: tuple, e: tuple, from_right: bool) -> None:
+    def add(x0: float, h: float, c: tuple, e: tuple) -> None:
         xa.append(x0)
         hh.append(h)
         cs.append(c)
         es.append(e)
-        right.append(from_right)
 
     check_limits(x, lower, upper, p0, pn)
     if p0 > 0:
         if isinstance(lower, BoundedTail):
             c = lower.piece("lower", 0.0, p0)
-            add(lower.limit, x[0] - lower.limit, c, _from_right(c), False)
+            add(lower.limit, x[0] - lower.limit, c, _from_right(c))
         else:
             scale = _exp_scale(lower, x, p, d, "lower", p0)
             lower_exp = ResolvedExponentialTail(float(x[0]), p0, scale, "lower", 0.0)
@@ -196,16 +198,16 @@ def build_pieces(
         h = x[i + 1] - x[i]
         delta = p[i + 1] - p[i]
         if interpolation == "linear":
-            add(x[i], h, (p[i], delta, 0.0, 0.0), (delta, 0.0, 0.0), False)
+            add(x[i], h, (p[i], delta, 0.0, 0.0), (delta, 0.0, 0.0))
         else:
             a, b = h * d[i], h * d[i + 1]
             c = (p[i], a, 3 * delta - 2 * a - b, -2 * delta + a + b)
-            add(x[i], h, c, (b, 3 * delta - a - 2 * b, a + b - 2 * delta), b < a)
+            add(x[i], h, c, (b, 3 * delta - a - 2 * b, a + b - 2 * delta))
     if pn < 1:
         mass = 1.0 - pn
         if isinstance(upper, BoundedTail):
             c = upper.piece("upper", pn, mass)
-            add(x[-1], upper.limit - x[-1], c, _from_right(c), upper.density == "taper")
+            add(x[-1], upper.limit - x[-1], c, _from_right(c))
         else:
             scale = _exp_scale(upper, x, p, d, "upper", mass)
             upper_exp = ResolvedExponentialTail(float(x[-1]), mass, scale, "upper", pn)
@@ -218,13 +220,17 @@ def build_pieces(
     xa_arr = np.asarray(xa, dtype=float)
     last = upper.limit if bounded_upper else x[-1]  # type: ignore[union-attr]
     xb_arr = np.r_[xa_arr[1:], last]  # pieces are contiguous
+    h_arr = np.asarray(hh, dtype=float)
+    xm = np.minimum(np.maximum(xa_arr + 0.5 * h_arr, xa_arr), xb_arr)
+    pm = np.minimum(np.maximum(poly(c, (xm - xa_arr) / h_arr), pl), pr)
     return Pieces(
         xa=_ro(xa_arr),
         xb=_ro(xb_arr),
-        h=_ro(np.asarray(hh, dtype=float)),
+        h=_ro(h_arr),
         c=_ro(c),
         e=_ro(np.array(es, dtype=float).T.copy()),
-        right=_ro(np.asarray(right, dtype=bool)),
+        xm=_ro(xm),
+        pm=_ro(pm),
         pl=_ro(pl),
         pr=_ro(pr),
         atom_x=_ro(np.asarray(atom_x, dtype=float)),
@@ -321,24 +327,31 @@ def dpoly(c: np.ndarray, t: np.ndarray) -> np.ndarray:
 
 
 def piece_cdf(pc: Pieces, j: np.ndarray, v: np.ndarray) -> np.ndarray:
-    """``F`` at points ``v`` inside pieces ``j``, from the end that keeps it accurate.
+    """``F`` at points ``v`` inside pieces ``j``, from the nearer end (see :class:`Pieces`).
 
-    Clipped to the piece's ``[pl, pr]``, so ``F`` never steps down where two
-    pieces meet. :func:`cdf` and the exact :func:`ppf` both evaluate ``F``
-    here, so ``cdf(ppf(u)) ≥ u`` holds as computed.
+    Kept inside the piece's ``[pl, pr]``, so ``F`` never steps down where two
+    pieces meet. :func:`cdf` and the exact ``ppf`` both evaluate ``F`` with
+    :func:`left_cdf` and :func:`right_cdf`, so ``cdf(ppf(u)) ≥ u`` holds as
+    computed.
     """
     out = np.empty(v.shape)
-    r = pc.right[j]
-    jl, vl = j[~r], v[~r]
-    t = (vl - pc.xa[jl]) / pc.h[jl]
-    out[~r] = poly(pc.c[:, jl], t)
-    if r.any():
-        jr, vr = j[r], v[r]
-        s = (pc.xb[jr] - vr) / pc.h[jr]
-        e = pc.e[:, jr]
-        out[r] = pc.pr[jr] - s * (e[0] + s * (e[1] + s * e[2]))
-        out[r & (v <= pc.xa[j])] = pc.pl[j[r & (v <= pc.xa[j])]]  # a knot's p, exactly
-    return np.minimum(np.maximum(out, pc.pl[j]), pc.pr[j])
+    r = v > pc.xm[j]
+    jl, jr = j[~r], j[r]
+    out[~r] = left_cdf(pc.xa[jl], pc.h[jl], pc.c[:, jl], pc.pl[jl], pc.pm[jl], v[~r])
+    out[r] = right_cdf(pc.xb[jr], pc.h[jr], pc.e[:, jr], pc.pm[jr], pc.pr[jr], v[r])
+    return out
+
+
+def left_cdf(xa, h, c, pl, pm, v):
+    """``F`` on the left half of pieces, gathered per point: within ``[pl, pm]``."""
+    t = (v - xa) / h
+    return np.minimum(np.maximum(c[0] + t * (c[1] + t * (c[2] + t * c[3])), pl), pm)
+
+
+def right_cdf(xb, h, e, pm, pr, v):
+    """``F`` on the right half of pieces, gathered per point: within ``[pm, pr]``."""
+    s = (xb - v) / h
+    return np.minimum(np.maximum(pr - s * (e[0] + s * (e[1] + s * e[2])), pm), pr)
 
 
 @np.errstate(over="ignore", under="ignore")

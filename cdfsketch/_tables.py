@@ -81,7 +81,8 @@ def compile_tables(pc: _pieces.Pieces, tol: float) -> Tables:
     # non-decreasing: each cell's values must lie between its two edges' (then x(u) never
     # steps down from one cell to the next); a fast cell whose rounded ends do not is made
     # slow, and the slow path clips to them
-    edges = np.maximum.accumulate(_inverse.ppf(pc, np.arange(cells + 1) / cells, exact=False))
+    grid = np.arange(cells + 1) / cells
+    edges = np.maximum.accumulate(_inverse.ppf(pc, grid, exact=False))
     edges = np.r_[edges, edges[-1]]  # the extra cell j = M (u = 1) ends there too
     _keep_between_edges(a, b, c, d, edges)
     cubic = bool(np.any(c != 0) or np.any(d != 0))
@@ -211,7 +212,8 @@ def _cubic_intervals(
     """Adaptive cubic interpolation of the inverse on ranges ``(lo, hi]`` of cubic pieces ``j``.
 
     Each range starts as 8 equal intervals (as one when there are thousands
-    of ranges, e.g. a sketch with more cubic pieces than cells); an interval that fails the checks of :func:`_fit_inverse_cubics` is
+    of ranges, e.g. a sketch with more cubic pieces than cells); an interval
+    that fails the checks of :func:`_fit_inverse_cubics` is
     halved, all ranges at once. An interval whose ``u``-width is at most
     ``tol``, or whose exact end points are at most :data:`_FEW_ULPS` doubles
     apart, becomes the straight line between them (see the module
