@@ -104,8 +104,10 @@ class PiecewiseDistribution:
     def ppf(self, u: ArrayLike) -> Any:
         """Generalized inverse: the smallest ``x`` with ``cdf(x) ≥ u``.
 
-        Exact (closed form for linear pieces and tails, Newton–bisection to
-        rounding for cubic pieces). ``ppf(0)`` and ``ppf(1)`` are the support's
+        Exact: closed form for linear pieces and tails; for cubic pieces the
+        smallest double with ``cdf(x) ≥ u`` as :meth:`cdf` computes it
+        (bisection over the doubles). Non-decreasing in ``u`` by construction,
+        on every pair of doubles. ``ppf(0)`` and ``ppf(1)`` are the support's
         ends. For fast evaluation of many points use :meth:`sampler`.
 
         Examples

@@ -435,7 +435,7 @@ class Sketch(PiecewiseDistribution):
         """
         from .spec import sketch_to_spec
 
-        return sketch_to_spec(self, **provenance)
+        return sketch_to_spec(_PlainProvenance(self), **provenance)
 
     def to_json(self, path: Any = None, **provenance: Any) -> str:
         """The spec as JSON text; written to ``path`` when given.
@@ -461,3 +461,23 @@ class Sketch(PiecewiseDistribution):
         from .scipy_adapter import FrozenSketch
 
         return FrozenSketch(self)
+
+
+class _PlainProvenance:
+    """The sketch as the spec writer reads it, with its provenance as plain dicts and lists.
+
+    The writer checks the record with the same rules as a loaded file (lists,
+    not tuples); the sketch keeps its frozen record.
+    """
+
+    __slots__ = ("_sketch",)
+
+    def __init__(self, sketch: Sketch) -> None:
+        self._sketch = sketch
+
+    def __getattr__(self, key: str) -> Any:
+        return getattr(self._sketch, key)
+
+    @property
+    def provenance(self) -> dict[str, Any]:
+        return thaw(self._sketch.provenance)

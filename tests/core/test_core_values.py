@@ -183,3 +183,11 @@ def test_sketch_imports_spec_only_inside_functions():
     top = [ast.unparse(n) for n in tree.body if isinstance(n, ast.ImportFrom)]
     assert not any("spec" in t or "elicit" in t or "autoknots" in t for t in top), top
     assert not hasattr(Sketch, "from_quantiles") and not hasattr(Sketch, "from_data")
+
+
+def test_frozen_provenance_still_writes_and_loads():
+    prov = {"contributors": [{"name": "a", "weight": 1.0}], "extra": {"k": [1, 2]}}
+    s = Sketch([0, 1], [0, 1], provenance=prov)
+    back = cdfsketch.load(s.to_json())
+    assert back.provenance["contributors"][0]["name"] == "a"
+    assert list(back.provenance["extra"]["k"]) == [1, 2]
