@@ -109,6 +109,8 @@ def compile_tables(pc: _pieces.Pieces, tol: float) -> Tables:
     ixmax = np.where(joined, np.r_[coef[0][1:], np.inf], np.inf)
     cub = kind == 3
     ixmax[cub] = np.minimum(ixmax[cub], pc.xb[w[cub]])
+    for arr in (a, b, c, d, edges, ul, ur, ixmax, *coef, *closed_rows):
+        arr.setflags(write=False)  # shared by every thread that samples
     return Tables(
         cells=cells,
         a=a,

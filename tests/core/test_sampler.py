@@ -27,7 +27,18 @@ def test_sample_equals_table_ppf_of_the_generators_uniforms(zoo):
 
 def test_sampler_is_cached_and_sketch_stays_immutable():
     s = Sketch([0, 1, 3], [0, 0.5, 1], interpolation="pchip")
+    before = (s.x.copy(), s.p.copy(), s.cdf(np.linspace(-1, 4, 50)), hash(s))
     assert s.sampler() is s.sampler()
+    s.sample(100, rng=1)
+    after = (s.x, s.p, s.cdf(np.linspace(-1, 4, 50)), hash(s))
+    assert all(np.array_equal(a, b) for a, b in zip(before[:3], after[:3], strict=True))
+    assert before[3] == after[3]
+    with pytest.raises(AttributeError, match="immutable"):
+        s.x = np.array([0.0, 2.0])  # type: ignore[misc]
+    with pytest.raises(ValueError, match="read-only"):
+        s.x[0] = 5.0
+    with pytest.raises(ValueError, match="read-only"):
+        s.sampler()._a[0] = 1.0  # the compiled tables are shared by threads: read-only
 
 
 def test_memory_is_order_chunk_not_n():
