@@ -172,6 +172,9 @@ def _body_intervals(
         kind = np.full((1, block.shape[1]), 3.0)
         blocks.append(np.vstack([block[:6], kind, block[6:]]))
     block = np.concatenate(blocks, axis=1)
+    # drop empty intervals (ul == ur: splitting a range a few doubles wide repeats its
+    # ends), so that ur is strictly increasing and the binary search finds each u's own
+    block = block[:, block[1] > block[0]]
     block = block[:, np.argsort(block[0], kind="stable")]
     cols = [block[i].copy() for i in range(8)]
     return cols[0], cols[1], tuple(cols[2:6]), cols[6].astype(np.intp), cols[7].astype(np.intp)

@@ -192,3 +192,49 @@ def test_stated_tiny_and_huge_tail_scales():
         u = neighbourhoods(s.p, 20)
         assert np.all(np.diff(s.ppf(u)) >= 0)
         assert np.all(np.isfinite(s.sample(1000, rng=2)))
+
+
+def test_ranges_a_few_doubles_wide_give_no_empty_intervals():
+    # fuzz example 1341: a cubic piece 2 ulps wide in u was split into empty intervals
+    # (ul == ur) that broke the binary search: the same u drew two different x
+    s = Sketch(
+        [4.4157682385472937e-16, 4.495052894768851e-16, 4.495052894768998e-16],
+        [0.0, 0.5967647589235135, 0.5967647589235137],
+        interpolation="pchip",
+        lower_tail=ExponentialTail(scale=7.545282758114653e-63),
+        upper_tail=BoundedTail(limit=4.74485942749915e-16, density="uniform"),
+    )
+    fast = s.sampler()
+    assert np.all(np.diff(fast._ur) > 0)
+    u = np.sort(np.r_[neighbourhoods(s.p, 60), neighbourhoods(s.p, 60)])
+    x = fast.ppf(u)
+    assert np.all(np.diff(x) >= 0)
+    assert np.array_equal(fast.ppf(u[::2]), x[::2])
+
+
+def test_fuzz_example_2049_sampler_monotone():
+    x = [
+        1.3338852655479355e-80,
+        3.9925749052189305e-37,
+        7.641700759188419e-34,
+        7.668915696978238e-34,
+        1.0061915063077224e-32,
+        7.492697441536841e-32,
+        7.492697441537353e-32,
+        7.494891887075432e-32,
+        7.494891887076098e-32,
+    ]
+    p = [
+        0.2780212887337724,
+        0.3812064560529991,
+        0.40639026143985746,
+        0.5191453851672615,
+        0.7807406916882984,
+        0.7919620178795719,
+        0.7969726458837794,
+        0.8326289455815693,
+        0.8326289455815694,
+    ]
+    s = Sketch(x, p, interpolation="pchip", upper_tail=BoundedTail(limit=7.728502960884252e-32))
+    u = np.sort(np.r_[neighbourhoods(s.p, 60), np.random.default_rng(0).random(20_000)])
+    assert np.all(np.diff(s.sampler().ppf(u)) >= 0)
