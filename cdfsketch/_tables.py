@@ -174,7 +174,9 @@ def _body_intervals(
     block = np.concatenate(blocks, axis=1)
     # drop empty intervals (ul == ur: splitting a range a few doubles wide repeats its
     # ends), so that ur is strictly increasing and the binary search finds each u's own
-    block = block[:, block[1] > block[0]]
+    nonempty = block[1] > block[0]
+    nonempty[0] |= not nonempty.any()  # the search needs one row (no body draws reach it)
+    block = block[:, nonempty]
     block = block[:, np.argsort(block[0], kind="stable")]
     cols = [block[i].copy() for i in range(8)]
     return cols[0], cols[1], tuple(cols[2:6]), cols[6].astype(np.intp), cols[7].astype(np.intp)

@@ -107,6 +107,13 @@ def check_sketch(args: dict, rng: np.random.Generator, *, sample: bool) -> list[
         return ["refused"]
     except Exception:
         return ["constructor raised"]
+    try:
+        return _check_accepted(s, rng, sample=sample)
+    except Exception:
+        return ["evaluation raised"]
+
+
+def _check_accepted(s: Sketch, rng: np.random.Generator, *, sample: bool) -> list[str]:
     bad = []
     v = _probe_x(s, rng)
     f = s.cdf(v)
@@ -134,11 +141,14 @@ def check_sketch(args: dict, rng: np.random.Generator, *, sample: bool) -> list[
             fast = s.sampler()
         except Exception:
             return [*bad, "sampler did not compile"]
-        draws = fast.sample(2000, rng=rng)
+        try:
+            draws = fast.sample(2000, rng=rng)
+            xs = fast.ppf(u)
+        except Exception:
+            return [*bad, "sampler raised"]
         lo, hi = s.support
         if not (np.all(draws >= lo) and np.all(draws <= hi)):
             bad.append("draw outside support")
-        xs = fast.ppf(u)
         if np.any(np.diff(xs) < 0):
             bad.append("sampler ppf not monotone")
         xi = xs[inner]
