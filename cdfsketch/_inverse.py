@@ -30,7 +30,10 @@ def invert_pieces(pc: Pieces, j: np.ndarray, u: np.ndarray) -> np.ndarray:
     """Solve ``F_j(t) = u`` on polynomial pieces ``j``; returns ``x``.
 
     Linear pieces are inverted in closed form; cubic pieces by safeguarded
-    Newton iteration with bisection (converges to rounding).
+    Newton iteration with bisection (converges to rounding), on the right
+    half of a piece in the form anchored at its right end (``pr - u`` solved
+    for ``s``), so next to a knot where the density vanishes the root is as
+    accurate as the exact :func:`ppf`'s.
     """
     c = pc.c[:, j]
     lin = (c[2] == 0) & (c[3] == 0)
@@ -49,11 +52,22 @@ def invert_pieces(pc: Pieces, j: np.ndarray, u: np.ndarray) -> np.ndarray:
         with np.errstate(divide="ignore", invalid="ignore"):
             t[quad] = np.where(den > 0, 2.0 * r / den, 0.0)
     cub = ~(lin | quad)
+    right = np.zeros(u.shape, dtype=bool)
     if cub.any():
-        t[cub] = _solve_monotone_cubic(c[:, cub], u[cub])
-    rest = ~lin
+        right[cub] = u[cub] > pc.pm[j[cub]]
+        left = cub & ~right
+        t[left] = _solve_monotone_cubic(c[:, left], u[left])
+        if right.any():
+            jr = j[right]
+            e = pc.e[:, jr]
+            q = np.vstack([np.zeros(jr.size), e[0], e[1], e[2]])
+            t[right] = _solve_monotone_cubic(q, pc.pr[jr] - u[right])  # s, from the right
+    rest = ~lin & ~right
     jr = j[rest]
     x[rest] = np.minimum(pc.xa[jr] + pc.h[jr] * np.clip(t[rest], 0.0, 1.0), pc.xb[jr])
+    if right.any():
+        jr = j[right]
+        x[right] = np.maximum(pc.xb[jr] - pc.h[jr] * np.clip(t[right], 0.0, 1.0), pc.xa[jr])
     return x
 
 
@@ -119,7 +133,9 @@ def bisect_pieces(pc: Pieces, j: np.ndarray, u: np.ndarray) -> np.ndarray:
         sel = np.flatnonzero(right == side)
         if sel.size:
             hi[sel] = _bisect_half(pc, j[sel], u[sel], side)
-    return from_order_key(hi)
+    # u = pr is reached at the piece's end exactly (F < pr inside a rising piece), even
+    # where the rounded F touches pr a little earlier (a density near zero there)
+    return np.where(u >= pc.pr[j], pc.xb[j], from_order_key(hi))
 
 
 def _bisect_half(pc: Pieces, j: np.ndarray, u: np.ndarray, right: bool) -> np.ndarray:

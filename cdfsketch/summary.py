@@ -221,15 +221,21 @@ def _support_ends(sk: Sketch) -> list[str]:
 
     A simulation then never draws beyond that knot (for a sketch made from
     data: beyond the smallest or largest observation). A side whose tail was
-    stated (``lower_tail=``/``upper_tail=``) ends where the user said.
+    stated (``lower_tail=``/``upper_tail=``), or whose bound the expert stated
+    (``provenance["extra"]``: ``lower_bound``/``upper_bound`` or
+    ``ends_stated``), ends where the user said.
     """
     out = []
     low, high = sk.support
-    for side, end, where, word in ((0, low, "below", "lower"), (1, high, "above", "upper")):
+    extra = sk.provenance.get("extra") or {}
+    ends_stated = extra.get("ends_stated", (False, False))
+    for side, end, where, word in ((0, low, "below", "a lower"), (1, high, "above", "an upper")):
         if sk.tail_mass[side] > 0 or sk.tails_given[side] or not math.isfinite(end):
             continue  # mass beyond, or an end stated on purpose (a tail setting was given)
+        if ends_stated[side] or extra.get(f"{word.split()[1]}_bound") is not None:
+            continue  # the expert stated this bound (from_quantiles lower=/upper=)
         out.append(
-            f"support ends at {end:.6g}: a simulation never draws {where} it; add an "
+            f"support ends at {end:.6g}: a simulation never draws {where} it; add "
             f"{word} tail to allow {'smaller' if side == 0 else 'larger'} values."
         )
     return out
@@ -265,11 +271,9 @@ def summary(sketch: Sketch, *, probabilities: Any = (0.05, 0.25, 0.5, 0.75, 0.95
     (3.5, 1.0, (0.0, 2.0), ((0.5, 2.0),))
     """
     if not isinstance(getattr(sketch, "_pieces", None), _pieces.Pieces):
-        raise fail(
-            "summary() needs a Sketch",
-            type(sketch).__name__,
-            "Pass a cdfsketch.Sketch (e.g. one made by cdfsketch.from_quantiles).",
-            field="sketch",
+        raise TypeError(
+            f"summary() needs a Sketch; got {type(sketch).__name__}. Pass a cdfsketch.Sketch "
+            "(e.g. one made by cdfsketch.from_quantiles)."
         )
     probs = _probabilities(probabilities, field="probabilities")[0].ravel()
     i = first_bad((probs <= 0) | (probs >= 1))

@@ -94,7 +94,7 @@ def test_summary_warns_when_the_support_stops_at_a_knot():
     s = Sketch([0.2, 1.3, 7.9], [0, 0.5, 1])
     w = summary(s).warnings
     assert sum("support ends at 7.9: a simulation never draws above it" in m for m in w) == 1
-    assert sum("support ends at 0.2" in m and "lower tail" in m for m in w) == 1
+    assert sum("support ends at 0.2" in m and "add a lower tail" in m for m in w) == 1
     # a stated tail (here a bounded limit) is an end the user chose: no warning
     stated = Sketch([0.2, 1.3, 7.9], [0, 0.5, 1], upper_tail=BoundedTail(9.0))
     assert not any("never draws above" in m for m in summary(stated).warnings)
