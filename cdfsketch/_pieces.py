@@ -20,39 +20,41 @@ from dataclasses import dataclass
 
 import numpy as np
 
-from .knots import MAX_ABS_X, KnotError
-from .tails import BoundedTail, ExponentialTail, Tail
+from ._limits import MAX_SCALE
+from ._validate import KnotError, fail
+from .tails import BoundedTail, ExponentialTail, ResolvedExponentialTail, Tail
 
 INTERPOLATIONS = ("linear", "pchip")
 
 
-@dataclass(frozen=True)
-class ExpTail:
-    """A resolved exponential tail: it leaves ``edge`` with ``mass`` and ``scale``."""
-
-    edge: float
-    mass: float
-    scale: float
-
-
 @dataclass(frozen=True, eq=False)
 class Pieces:
+    """The piece table (read-only arrays, one column per polynomial piece).
+
+    ``c`` holds ``F`` from the left end, ``F = c0 + t (c1 + t (c2 + t c3))``;
+    ``e`` the same polynomial from the right end, ``F = pr - s (e0 + s (e1 + s e2))``
+    with ``s = (xb - x) / h``. ``F`` is evaluated from the nearer end: from
+    the left up to the piece's midpoint ``xm`` (capped at ``pm = F(xm)``),
+    from the right beyond it (floored at ``pm``). So near a knot where the
+    density vanishes ``F`` is computed to a few ulps of its distance from the
+    knot's ``p``, not of ``F``, and the two halves meet without a step down.
+    """
+
     xa: np.ndarray
     xb: np.ndarray  # exact right ends (xb[j] == xa[j + 1])
     h: np.ndarray
     c: np.ndarray  # shape (4, m)
+    e: np.ndarray  # shape (3, m)
+    xm: np.ndarray  # where evaluation switches ends (≈ the piece's middle)
+    pm: np.ndarray  # F(xm)
     pl: np.ndarray
     pr: np.ndarray
     atom_x: np.ndarray
     atom_mass: np.ndarray
-    lower: ExpTail | None
-    upper: ExpTail | None
+    lower: ResolvedExponentialTail | None
+    upper: ResolvedExponentialTail | None
     p_low: float  # probability where the body (pieces and atoms) starts
     p_high: float  # ... and where it ends
-
-    @property
-    def x_start(self) -> float:
-        return float(self.xa[0])
 
     @property
     def x_end(self) -> float:
@@ -99,16 +101,32 @@ def _pchip_end_slope(h0: float, h1: float, m0: float, m1: float) -> float:
 
 
 @np.errstate(over="ignore", divide="ignore", invalid="ignore")
-def knot_slopes(x: np.ndarray, p: np.ndarray, interpolation: str) -> np.ndarray:
-    """Density at each knot from inside its run (runs are split by jumps)."""
+def knot_slopes(
+    x: np.ndarray,
+    p: np.ndarray,
+    interpolation: str,
+    continue_lower: bool = False,
+    continue_upper: bool = False,
+) -> np.ndarray:
+    """Density at each knot from inside its run (runs are split by jumps).
+
+    ``continue_lower``/``continue_upper``: a derived exponential tail holds
+    mass beyond that end and must continue the density there. Where the
+    monotone cubic's end slope is zero although the outer segment rises (the
+    one-sided formula flattens it when the next secant is steeper), that end
+    slope is set to the outer segment's secant ``(p₁ - p₀)/(x₁ - x₀)``
+    instead; the other end's slope is at most three secants (Fritsch–Butland),
+    so the piece stays monotone (Fritsch & Carlson 1980: ``α, β ≤ 3``) and the
+    tail continues a positive density. Linear pieces end with their secant
+    already.
+    """
     n = x.size
     d = np.zeros(n)
     breaks = np.flatnonzero(np.diff(x) == 0)  # knot i and i+1 share x
     starts = np.r_[0, breaks + 1]
     stops = np.r_[breaks + 1, n]
-    for a, b in zip(starts, stops, strict=True):
-        if b - a < 2:
-            continue
+    runs = [(a, b) for a, b in zip(starts, stops, strict=True) if b - a >= 2]
+    for a, b in runs:
         xs, ps = x[a:b], p[a:b]
         if interpolation == "pchip":
             d[a:b] = pchip_slopes(xs, ps)
@@ -116,15 +134,23 @@ def knot_slopes(x: np.ndarray, p: np.ndarray, interpolation: str) -> np.ndarray:
             sec = np.diff(ps) / np.diff(xs)
             d[a : b - 1] = sec
             d[b - 1] = sec[-1]
+    if interpolation == "pchip" and runs:
+        a, b = runs[0]
+        if continue_lower and d[a] == 0:
+            d[a] = (p[a + 1] - p[a]) / (x[a + 1] - x[a])
+        a, b = runs[-1]
+        if continue_upper and d[b - 1] == 0:
+            d[b - 1] = (p[b - 1] - p[b - 2]) / (x[b - 1] - x[b - 2])
     return d
 
 
 def _outer_density(x: np.ndarray, p: np.ndarray, d: np.ndarray, side: str) -> float:
-    """Density at the outer knot for deriving an exponential scale.
+    """Density at the outer knot from inside, for deriving an exponential scale.
 
-    The density at the outer knot from inside; if that is zero, the average
-    density of the outer continuous segment; if that is zero too, the average
-    density over the knots' range.
+    It is the knot's slope on the first continuous segment (past an atom at
+    the outer knot). Where that segment is flat there is no density to
+    continue: the average density over the knots' range is used and the
+    density jumps at the knot (the tail still holds exactly its mass).
     """
     idx = range(x.size - 1) if side == "lower" else range(x.size - 1, 0, -1)
     for i in idx:
@@ -132,11 +158,12 @@ def _outer_density(x: np.ndarray, p: np.ndarray, d: np.ndarray, side: str) -> fl
         if x[i] != x[j]:
             if d[i] > 0:
                 return float(d[i])
-            seg = abs(p[j] - p[i]) / abs(x[j] - x[i])
-            if seg > 0:
-                return float(seg)
             break
     return float((p[-1] - p[0]) / (x[-1] - x[0]))
+
+
+def _derives(tail: Tail, mass: float) -> bool:
+    return isinstance(tail, ExponentialTail) and tail.scale is None and mass > 0
 
 
 def build_pieces(
@@ -144,19 +171,25 @@ def build_pieces(
 ) -> Pieces:
     """Build the piece table of a valid sketch (knots already checked)."""
     n = x.size
-    d = knot_slopes(x, p, interpolation)
-    xa, hh, cs, atom_x, atom_m = [], [], [], [], []
+    p0, pn = float(p[0]), float(p[-1])
+    d = knot_slopes(x, p, interpolation, _derives(lower, p0), _derives(upper, 1.0 - pn))
+    xa, hh, cs, es, atom_x, atom_m = [], [], [], [], [], []
     lower_exp = upper_exp = None
 
-    p0, pn = float(p[0]), float(p[-1])
+    def add(x0: float, h: float, c: tuple, e: tuple) -> None:
+        xa.append(x0)
+        hh.append(h)
+        cs.append(c)
+        es.append(e)
+
     check_limits(x, lower, upper, p0, pn)
     if p0 > 0:
         if isinstance(lower, BoundedTail):
-            xa.append(lower.limit)
-            hh.append(x[0] - lower.limit)
-            cs.append((0.0, p0, 0.0, 0.0) if lower.density == "uniform" else (0.0, 0.0, p0, 0.0))
+            c = lower.piece("lower", 0.0, p0)
+            add(lower.limit, x[0] - lower.limit, c, _from_right(c))
         else:
-            lower_exp = ExpTail(float(x[0]), p0, _exp_scale(lower, x, p, d, "lower", p0))
+            scale = _exp_scale(lower, x, p, d, "lower", p0)
+            lower_exp = ResolvedExponentialTail(float(x[0]), p0, scale, "lower", 0.0)
     for i in range(n - 1):
         if x[i] == x[i + 1]:
             atom_x.append(x[i])
@@ -165,23 +198,19 @@ def build_pieces(
         h = x[i + 1] - x[i]
         delta = p[i + 1] - p[i]
         if interpolation == "linear":
-            cs.append((p[i], delta, 0.0, 0.0))
+            add(x[i], h, (p[i], delta, 0.0, 0.0), (delta, 0.0, 0.0))
         else:
             a, b = h * d[i], h * d[i + 1]
-            cs.append((p[i], a, 3 * delta - 2 * a - b, -2 * delta + a + b))
-        xa.append(x[i])
-        hh.append(h)
+            c = (p[i], a, 3 * delta - 2 * a - b, -2 * delta + a + b)
+            add(x[i], h, c, (b, 3 * delta - a - 2 * b, a + b - 2 * delta))
     if pn < 1:
         mass = 1.0 - pn
         if isinstance(upper, BoundedTail):
-            xa.append(x[-1])
-            hh.append(upper.limit - x[-1])
-            if upper.density == "uniform":
-                cs.append((pn, mass, 0.0, 0.0))
-            else:
-                cs.append((pn, 2 * mass, -mass, 0.0))
+            c = upper.piece("upper", pn, mass)
+            add(x[-1], upper.limit - x[-1], c, _from_right(c))
         else:
-            upper_exp = ExpTail(float(x[-1]), mass, _exp_scale(upper, x, p, d, "upper", mass))
+            scale = _exp_scale(upper, x, p, d, "upper", mass)
+            upper_exp = ResolvedExponentialTail(float(x[-1]), mass, scale, "upper", pn)
     c = np.array(cs, dtype=float).T.copy()
     pl = c[0].copy()
     pr = c.sum(axis=0)
@@ -189,13 +218,19 @@ def build_pieces(
     bounded_upper = pn < 1 and isinstance(upper, BoundedTail)
     pr = _snap_right_ends(pr, p, x, np.asarray(xa), bounded_upper)
     xa_arr = np.asarray(xa, dtype=float)
-    last = upper.limit if pn < 1 and isinstance(upper, BoundedTail) else x[-1]
+    last = upper.limit if bounded_upper else x[-1]  # type: ignore[union-attr]
     xb_arr = np.r_[xa_arr[1:], last]  # pieces are contiguous
-    pieces = Pieces(
+    h_arr = np.asarray(hh, dtype=float)
+    xm = np.minimum(np.maximum(xa_arr + 0.5 * h_arr, xa_arr), xb_arr)
+    pm = np.minimum(np.maximum(poly(c, (xm - xa_arr) / h_arr), pl), pr)
+    return Pieces(
         xa=_ro(xa_arr),
         xb=_ro(xb_arr),
-        h=_ro(np.asarray(hh, dtype=float)),
+        h=_ro(h_arr),
         c=_ro(c),
+        e=_ro(np.array(es, dtype=float).T.copy()),
+        xm=_ro(xm),
+        pm=_ro(pm),
         pl=_ro(pl),
         pr=_ro(pr),
         atom_x=_ro(np.asarray(atom_x, dtype=float)),
@@ -205,7 +240,12 @@ def build_pieces(
         p_low=p0 if lower_exp else 0.0,
         p_high=pn if upper_exp else 1.0,
     )
-    return pieces
+
+
+def _from_right(c: tuple) -> tuple[float, float, float]:
+    """Coefficients of ``F`` from the right end (see :class:`Pieces`) from those from the left."""
+    _, c1, c2, c3 = c
+    return (c1 + 2 * c2 + 3 * c3, -(c2 + 3 * c3), c3)
 
 
 def check_limits(x: np.ndarray, lower: Tail, upper: Tail, p0: float, pn: float) -> None:
@@ -213,16 +253,24 @@ def check_limits(x: np.ndarray, lower: Tail, upper: Tail, p0: float, pn: float) 
     if isinstance(lower, BoundedTail) and not (
         lower.limit < x[0] or (lower.limit == x[0] and p0 == 0)
     ):
-        raise KnotError(
-            f"A bounded lower tail needs its limit below the first knot; got limit="
-            f"{lower.limit!r} and x[0]={float(x[0])!r}. Lower the limit or move the knot."
+        raise fail(
+            "A bounded lower tail needs its limit below the first knot",
+            f"limit={lower.limit!r} and x[0]={float(x[0])!r}",
+            "Lower the limit or move the knot.",
+            error=KnotError,
+            field="lower_tail",
+            value=lower.limit,
         )
     if isinstance(upper, BoundedTail) and not (
         upper.limit > x[-1] or (upper.limit == x[-1] and pn == 1)
     ):
-        raise KnotError(
-            f"A bounded upper tail needs its limit above the last knot; got limit="
-            f"{upper.limit!r} and x[-1]={float(x[-1])!r}. Raise the limit or move the knot."
+        raise fail(
+            "A bounded upper tail needs its limit above the last knot",
+            f"limit={upper.limit!r} and x[-1]={float(x[-1])!r}",
+            "Raise the limit or move the knot.",
+            error=KnotError,
+            field="upper_tail",
+            value=upper.limit,
         )
 
 
@@ -247,18 +295,18 @@ def _snap_right_ends(
 def _exp_scale(tail: ExponentialTail, x, p, d, side: str, mass: float) -> float:
     """The tail's scale: stated, or ``mass / f`` with ``f`` the outer density.
 
-    Where every density estimate is zero (all knots at one ``p``) or the ratio
-    is not finite, the knots' x range is used instead, so that any drag gives
-    a valid sketch; :attr:`Sketch.tail_scales` shows the value used.
+    Where the ratio is not finite (``mass / f`` overflows or underflows) the
+    knots' x range is used instead, so that any drag gives a valid sketch;
+    :attr:`Sketch.tail_scales` shows the value used.
     """
     if tail.scale is not None:
         return float(tail.scale)
     f = _outer_density(x, p, d, side)
     scale = mass / f if f > 0 else math.inf
-    if not (math.isfinite(scale) and scale > 0):  # no density there, or mass / f underflows
+    if not (math.isfinite(scale) and scale > 0):
         scale = float(x[-1] - x[0])
-    # at most what a stated scale may be (like knot positions), so it can be restated
-    return min(scale, MAX_ABS_X)
+    # at most what a stated scale may be, so it can be restated
+    return min(scale, MAX_SCALE)
 
 
 def _ro(a: np.ndarray) -> np.ndarray:
@@ -278,6 +326,34 @@ def dpoly(c: np.ndarray, t: np.ndarray) -> np.ndarray:
     return c[1] + t * (2 * c[2] + t * 3 * c[3])
 
 
+def piece_cdf(pc: Pieces, j: np.ndarray, v: np.ndarray) -> np.ndarray:
+    """``F`` at points ``v`` inside pieces ``j``, from the nearer end (see :class:`Pieces`).
+
+    Kept inside the piece's ``[pl, pr]``, so ``F`` never steps down where two
+    pieces meet. :func:`cdf` and the exact ``ppf`` both evaluate ``F`` with
+    :func:`left_cdf` and :func:`right_cdf`, so ``cdf(ppf(u)) ≥ u`` holds as
+    computed.
+    """
+    out = np.empty(v.shape)
+    r = v > pc.xm[j]
+    jl, jr = j[~r], j[r]
+    out[~r] = left_cdf(pc.xa[jl], pc.h[jl], pc.c[:, jl], pc.pl[jl], pc.pm[jl], v[~r])
+    out[r] = right_cdf(pc.xb[jr], pc.h[jr], pc.e[:, jr], pc.pm[jr], pc.pr[jr], v[r])
+    return out
+
+
+def left_cdf(xa, h, c, pl, pm, v):
+    """``F`` on the left half of pieces, gathered per point: within ``[pl, pm]``."""
+    t = (v - xa) / h
+    return np.minimum(np.maximum(c[0] + t * (c[1] + t * (c[2] + t * c[3])), pl), pm)
+
+
+def right_cdf(xb, h, e, pm, pr, v):
+    """``F`` on the right half of pieces, gathered per point: within ``[pm, pr]``."""
+    s = (xb - v) / h
+    return np.minimum(np.maximum(pr - s * (e[0] + s * (e[1] + s * e[2])), pm), pr)
+
+
 @np.errstate(over="ignore", under="ignore")
 def cdf(pc: Pieces, v: np.ndarray) -> np.ndarray:
     out = np.empty(v.shape)
@@ -285,17 +361,13 @@ def cdf(pc: Pieces, v: np.ndarray) -> np.ndarray:
     below = j < 0
     above = v >= pc.x_end
     body = ~(below | above)
-    jb = j[body]
-    t = (v[body] - pc.xa[jb]) / pc.h[jb]
-    out[body] = np.minimum(poly(pc.c[:, jb], t), pc.pr[jb])
+    out[body] = piece_cdf(pc, j[body], v[body])
     out[below] = 0.0
     out[above] = pc.p_high
-    if pc.lower is not None:
-        lo = v < pc.lower.edge
-        out[lo] = pc.lower.mass * np.exp((v[lo] - pc.lower.edge) / pc.lower.scale)
-    if pc.upper is not None:
-        hi = v >= pc.upper.edge
-        out[hi] = pc.p_high - pc.upper.mass * np.expm1(-(v[hi] - pc.upper.edge) / pc.upper.scale)
+    for tail in (pc.lower, pc.upper):
+        if tail is not None:
+            on = v < tail.edge if tail.side == "lower" else v >= tail.edge
+            out[on] = tail.cdf(v[on])
     return out
 
 
@@ -305,7 +377,7 @@ def sf(pc: Pieces, v: np.ndarray) -> np.ndarray:
     out = 1.0 - cdf(pc, v)
     if pc.upper is not None:
         hi = v >= pc.upper.edge
-        out[hi] = pc.upper.mass * np.exp(-(v[hi] - pc.upper.edge) / pc.upper.scale)
+        out[hi] = pc.upper.sf(v[hi])
     return out
 
 
@@ -317,125 +389,17 @@ def pdf(pc: Pieces, v: np.ndarray) -> np.ndarray:
     jb = j[body]
     t = (v[body] - pc.xa[jb]) / pc.h[jb]
     out[body] = np.maximum(dpoly(pc.c[:, jb], t), 0.0) / pc.h[jb]
-    if pc.lower is not None:
-        lo = v < pc.lower.edge
-        out[lo] = pc.lower.mass / pc.lower.scale * np.exp((v[lo] - pc.lower.edge) / pc.lower.scale)
-    if pc.upper is not None:
-        hi = v >= pc.upper.edge
-        out[hi] = pc.upper.mass / pc.upper.scale * np.exp(-(v[hi] - pc.upper.edge) / pc.upper.scale)
+    for tail in (pc.lower, pc.upper):
+        if tail is not None:
+            on = v < tail.edge if tail.side == "lower" else v >= tail.edge
+            out[on] = tail.pdf(v[on])
     return out
 
 
-def linear_inverse(
-    xa: np.ndarray, h: np.ndarray, c0: np.ndarray, c1: np.ndarray, xb: np.ndarray, u: np.ndarray
-) -> np.ndarray:
-    """The closed-form inverse on linear pieces, given their columns of the piece table.
-
-    :func:`invert_pieces` and the sampler's slow path both use it, so the two
-    agree bit for bit (the sampler relies on that for the order of its draws).
-    """
-    return np.minimum(xa + h * np.clip((u - c0) / c1, 0.0, 1.0), xb)
-
-
-def invert_pieces(pc: Pieces, j: np.ndarray, u: np.ndarray) -> np.ndarray:
-    """Solve ``F_j(t) = u`` on polynomial pieces ``j``; returns ``x``.
-
-    Linear pieces are inverted in closed form; cubic pieces by safeguarded
-    Newton iteration with bisection (converges to rounding).
-    """
-    c = pc.c[:, j]
-    lin = (c[2] == 0) & (c[3] == 0)
-    x = np.empty(u.shape)
-    jl = j[lin]
-    x[lin] = linear_inverse(pc.xa[jl], pc.h[jl], c[0, lin], c[1, lin], pc.xb[jl], u[lin])
-    if lin.all():
-        return x
-    t = np.empty(u.shape)
-    # quadratic pieces (taper tails): the root in its cancellation-free form
-    quad = (c[3] == 0) & ~lin
-    if quad.any():
-        r = u[quad] - c[0, quad]
-        c1, c2 = c[1, quad], c[2, quad]
-        den = c1 + np.sqrt(np.maximum(c1 * c1 + 4.0 * c2 * r, 0.0))
-        with np.errstate(divide="ignore", invalid="ignore"):
-            t[quad] = np.where(den > 0, 2.0 * r / den, 0.0)
-    cub = ~(lin | quad)
-    if cub.any():
-        t[cub] = _solve_monotone_cubic(c[:, cub], u[cub])
-    rest = ~lin
-    jr = j[rest]
-    x[rest] = np.minimum(pc.xa[jr] + pc.h[jr] * np.clip(t[rest], 0.0, 1.0), pc.xb[jr])
-    return x
-
-
-def _solve_monotone_cubic(c: np.ndarray, u: np.ndarray) -> np.ndarray:
-    lo = np.zeros(u.shape)
-    hi = np.ones(u.shape)
-    span = c[1] + c[2] + c[3]
-    t = np.clip((u - c[0]) / np.where(span > 0, span, 1.0), 0.0, 1.0)
-    active = np.ones(u.shape, dtype=bool)
-    for _ in range(200):
-        idx = np.flatnonzero(active)
-        if idx.size == 0:
-            break
-        ci = c[:, idx]
-        ti = t[idx]
-        f = poly(ci, ti) - u[idx]
-        pos = f > 0
-        hi[idx[pos]] = ti[pos]
-        lo[idx[~pos]] = ti[~pos]
-        df = dpoly(ci, ti)
-        with np.errstate(divide="ignore", invalid="ignore"):
-            tn = ti - f / df
-        bad = ~np.isfinite(tn) | (tn < lo[idx]) | (tn > hi[idx])
-        tn[bad] = 0.5 * (lo[idx[bad]] + hi[idx[bad]])
-        exact = f == 0
-        tn[exact] = ti[exact]
-        done = exact | (np.abs(tn - ti) <= 4e-16) | (hi[idx] - lo[idx] <= 4e-16)
-        t[idx] = tn
-        active[idx[done]] = False
-    return t
-
-
-def ppf(pc: Pieces, u: np.ndarray) -> np.ndarray:
-    """Generalized inverse: the smallest x with F(x) ≥ u, for u in [0, 1]."""
-    out = np.empty(u.shape)
-    lo_end, hi_end = pc.p_low, pc.p_high
-    body = (u > lo_end) & (u <= hi_end)
-    ub = u[body]
-    j = np.searchsorted(pc.pr, ub, side="left")
-    res = np.empty(ub.shape)
-    past = j >= pc.pr.size  # an atom at the top end
-    res[past] = pc.x_end
-    jj = j[~past]
-    uu = ub[~past]
-    at_left = uu <= pc.pl[jj]  # an atom, or the left end of a piece
-    r = np.empty(uu.shape)
-    r[at_left] = pc.xa[jj[at_left]]
-    inv = ~at_left
-    r[inv] = invert_pieces(pc, jj[inv], uu[inv])
-    res[~past] = r
-    out[body] = res
-    low, high = support(pc)
-    if pc.lower is not None:
-        lt = (u <= lo_end) & (u > 0)
-        out[lt] = pc.lower.edge + pc.lower.scale * np.log(u[lt] / pc.lower.mass)
-    else:
-        out[u <= lo_end] = low
-    if pc.upper is not None:
-        ut = (u > hi_end) & (u < 1)
-        out[ut] = pc.upper.edge - pc.upper.scale * np.log((1.0 - u[ut]) / pc.upper.mass)
-    out[u == 0] = low
-    out[u == 1] = high
-    return out
-
-
-def isf(pc: Pieces, q: np.ndarray) -> np.ndarray:
-    """Inverse survival function; exact deep in an upper exponential tail."""
-    out = ppf(pc, 1.0 - q)
-    if pc.upper is not None:
-        deep = (q > 0) & (q < pc.upper.mass)
-        out[deep] = pc.upper.edge + pc.upper.scale * np.log(pc.upper.mass / q[deep])
+def breakpoints(pc: Pieces) -> np.ndarray:
+    """Sorted distinct x where the density may jump or kink: knots and bounded limits."""
+    out = np.unique(np.r_[pc.xa, pc.x_end])
+    out.setflags(write=False)
     return out
 
 
@@ -483,12 +447,7 @@ def central_moment(pc: Pieces, k: int, about: float) -> float:
     total = float(np.sum(vals * dens * w[None, :]))
     if pc.atom_x.size:
         total += float(np.sum(pc.atom_mass * (pc.atom_x - about) ** k))
-    for tail, sign in ((pc.lower, -1.0), (pc.upper, 1.0)):
-        if tail is None:
-            continue
-        a = tail.edge - about
-        s = sign * tail.scale
-        total += tail.mass * sum(
-            math.comb(k, i) * a ** (k - i) * s**i * math.factorial(i) for i in range(k + 1)
-        )
+    for tail in (pc.lower, pc.upper):
+        if tail is not None:
+            total += tail.moment(k, about)
     return total

@@ -8,8 +8,12 @@ A valid set of knots ``(x, p)`` describes a CDF through the points
   is a point mass of size ``p[i+1] - p[i] > 0``) but never three;
 * ``p`` is non-decreasing and inside ``[0, 1]``;
 * the knots span a range: ``x[-1] > x[0]``;
-* magnitudes stay moderate: ``|x| ≤ 1e100`` and distinct positions at least
-  ``1e-100`` apart (rescale the units otherwise).
+* magnitudes stay moderate: ``|x| ≤ MAX_ABS_X`` (1e100) and distinct positions
+  at least ``MIN_SPACING`` (1e-100) apart (rescale the units otherwise); both
+  come from :mod:`cdfsketch._limits`, the one limit table;
+  Knots a few rounding steps apart at their magnitude (``1e15`` and
+  ``1e15 + 0.25``) are accepted: every operation, the sampler included,
+  handles pieces that span only a few floating-point numbers.
 
 :func:`check_knots` enforces this strictly (and says which index breaks it and
 how to repair it); :func:`project_knots` repairs any finite arrays to the
@@ -23,43 +27,51 @@ from __future__ import annotations
 
 import numpy as np
 
-__all__ = ["KnotError", "check_knots", "clamp_knot", "min_gap", "project_knots"]
+from ._limits import MAX_ABS_X, MAX_KNOTS, MIN_SPACING
+from ._validate import KnotError, fail, first_bad, integer, number, values
+
+__all__ = [
+    "MAX_ABS_X",
+    "MAX_KNOTS",
+    "MIN_SPACING",
+    "KnotError",
+    "check_knots",
+    "clamp_knot",
+    "min_gap",
+    "project_knots",
+]
 
 #: Relative gap kept between a dragged knot and its neighbours, as a fraction
 #: of the knots' x range, so a drag never creates a jump by accident.
 MIN_GAP_FRACTION = 1e-9
-#: Knot positions are kept within this magnitude (beyond it, squares of x spacings in the
-#: monotone-cubic slopes and the sampler's tables lose range); rescale the units instead.
-MAX_ABS_X = 1e100
-#: Smallest spacing of distinct knot positions, for the same reason.
-MIN_SPACING = 1e-100
+
+_REPAIR = "Sort the knots by x, or repair them with cdfsketch.project_knots()."
 
 
-class KnotError(ValueError):
-    """Knots that do not describe a valid CDF (a :class:`ValueError`)."""
-
-
-def _as_knot_array(values: object, name: str) -> np.ndarray:
-    """Return ``values`` as a 1-D float array or raise a :class:`KnotError`."""
-    try:
-        arr = np.asarray(values, dtype=float)
-    except (TypeError, ValueError) as exc:
-        raise KnotError(
-            f"Knot {name} must be numbers; got {values!r} which cannot be read as floats "
-            f"({exc}). Pass a list or array of numbers."
-        ) from None
+def _as_knot_array(raw: object, name: str) -> np.ndarray:
+    """Return ``raw`` as a 1-D finite float array or raise a :class:`KnotError`."""
+    arr, _ = values(raw, field=f"Knot {name}", nan=True, error=KnotError)
     if arr.ndim != 1:
-        raise KnotError(
-            f"Knot {name} must be a 1-D sequence; got an array of shape {arr.shape}. "
-            f"Pass one value per knot, e.g. np.ravel({name})."
+        raise fail(
+            f"Knot {name} must be a 1-D sequence",
+            f"an array of shape {arr.shape}",
+            f"Pass one value per knot, e.g. np.ravel({name}).",
+            error=KnotError,
+            field=name,
+            value=raw,
         )
-    bad = np.flatnonzero(~np.isfinite(arr))
-    if bad.size:
-        i = int(bad[0])
-        raise KnotError(
-            f"Knot {name} must be finite; got {name}[{i}]={float(arr[i])!r} "
-            f"({bad.size} non-finite value(s) in all). Remove or replace them; an unbounded "
-            "end is described by a tail, not by an infinite knot."
+    i = first_bad(~np.isfinite(arr))
+    if i is not None:
+        count = int(np.sum(~np.isfinite(arr)))
+        raise fail(
+            f"Knot {name} must be finite",
+            f"{name}[{i}]={float(arr[i])!r} ({count} non-finite value(s) in all)",
+            "Remove or replace them; an unbounded end is described by a tail, not by an "
+            "infinite knot.",
+            error=KnotError,
+            field=name,
+            index=i,
+            value=float(arr[i]),
         )
     return arr
 
@@ -68,16 +80,44 @@ def _as_pair(x: object, p: object) -> tuple[np.ndarray, np.ndarray]:
     xa = _as_knot_array(x, "x")
     pa = _as_knot_array(p, "p")
     if xa.shape != pa.shape:
-        raise KnotError(
-            f"Knot x and p must have the same length; got {xa.size} x values and {pa.size} "
-            "p values. Give one probability per knot."
+        raise fail(
+            "Knot x and p must have the same length",
+            f"{xa.size} x values and {pa.size} p values",
+            "Give one probability per knot.",
+            error=KnotError,
+            field="p",
         )
     if xa.size < 2:
-        raise KnotError(
-            f"A sketch needs at least 2 knots; got {xa.size}. Add a knot at each end of "
-            "the range you want to describe."
+        raise fail(
+            "A sketch needs at least 2 knots",
+            str(xa.size),
+            "Add a knot at each end of the range you want to describe.",
+            error=KnotError,
+            field="x",
+        )
+    if xa.size > MAX_KNOTS:
+        raise fail(
+            f"A sketch has at most {MAX_KNOTS:,} knots",
+            f"{xa.size:,}",
+            "Thin the knots (e.g. cdfsketch.from_data with a knot budget).",
+            error=KnotError,
+            field="x",
         )
     return xa, pa
+
+
+def _check_x(xa: np.ndarray) -> None:
+    big = first_bad(np.abs(xa) > MAX_ABS_X)
+    if big is not None:
+        raise fail(
+            f"Knot positions must satisfy |x| ≤ {MAX_ABS_X:g}",
+            f"x[{big}]={float(xa[big])!r}",
+            "Express the quantity in larger units (e.g. millions) so the numbers stay moderate.",
+            error=KnotError,
+            field="x",
+            index=big,
+            value=float(xa[big]),
+        )
 
 
 def check_knots(x: object, p: object) -> tuple[np.ndarray, np.ndarray]:
@@ -105,70 +145,90 @@ def check_knots(x: object, p: object) -> tuple[np.ndarray, np.ndarray]:
     >>> check_knots([0, 1, 2], [0, 0.6, 0.5])
     Traceback (most recent call last):
     ...
-    cdfsketch.knots.KnotError: Knot probabilities must be non-decreasing; got p[2]=0.5 < p[1]=0.6...
+    cdfsketch._validate.KnotError: Knot probabilities must be non-decreasing; got p[2]=0.5 ...
     """
     xa, pa = _as_pair(x, p)
     xa = xa.copy()
     pa = pa.copy()
-    out = np.flatnonzero((pa < 0) | (pa > 1))
-    if out.size:
-        i = int(out[0])
-        raise KnotError(
-            f"Knot probabilities must lie in [0, 1]; got p[{i}]={float(pa[i])!r}. "
-            "Clip them, or repair the knots with cdfsketch.project_knots()."
+
+    def bad(must: str, found: str, remedy: str, field: str, i: int, value: float) -> KnotError:
+        return fail(must, found, remedy, error=KnotError, field=field, index=i, value=value)
+
+    i = first_bad((pa < 0) | (pa > 1))
+    if i is not None:
+        raise bad(
+            "Knot probabilities must lie in [0, 1]",
+            f"p[{i}]={float(pa[i])!r}",
+            "Clip them, or repair the knots with cdfsketch.project_knots().",
+            "p",
+            i,
+            float(pa[i]),
         )
     dx = np.diff(xa)
-    down = np.flatnonzero(dx < 0)
-    if down.size:
-        i = int(down[0]) + 1
-        raise KnotError(
-            f"Knot positions must be non-decreasing; got x[{i}]={float(xa[i])!r} < "
-            f"x[{i - 1}]={float(xa[i - 1])!r}. Sort the knots by x, or repair them with "
-            "cdfsketch.project_knots()."
+    i = first_bad(dx < 0)
+    if i is not None:
+        i += 1
+        raise bad(
+            "Knot positions must be non-decreasing",
+            f"x[{i}]={float(xa[i])!r} < x[{i - 1}]={float(xa[i - 1])!r}",
+            _REPAIR,
+            "x",
+            i,
+            float(xa[i]),
         )
     dp = np.diff(pa)
-    dec = np.flatnonzero(dp < 0)
-    if dec.size:
-        i = int(dec[0]) + 1
-        raise KnotError(
-            f"Knot probabilities must be non-decreasing; got p[{i}]={float(pa[i])!r} < "
-            f"p[{i - 1}]={float(pa[i - 1])!r}. Sort the knots by x, or repair them with "
-            "cdfsketch.project_knots()."
+    i = first_bad(dp < 0)
+    if i is not None:
+        i += 1
+        raise bad(
+            "Knot probabilities must be non-decreasing",
+            f"p[{i}]={float(pa[i])!r} < p[{i - 1}]={float(pa[i - 1])!r}",
+            _REPAIR,
+            "p",
+            i,
+            float(pa[i]),
         )
-    big = np.flatnonzero(np.abs(xa) > MAX_ABS_X)
-    if big.size:
-        i = int(big[0])
-        raise KnotError(
-            f"Knot positions must satisfy |x| ≤ {MAX_ABS_X:g}; got x[{i}]={float(xa[i])!r}. "
-            "Express the quantity in larger units (e.g. millions) so the numbers stay moderate."
-        )
-    close = np.flatnonzero((dx > 0) & (dx < MIN_SPACING))
-    if close.size:
-        i = int(close[0]) + 1
-        raise KnotError(
-            f"Distinct knot positions must be at least {MIN_SPACING:g} apart; got "
-            f"x[{i}] - x[{i - 1}] = {float(dx[i - 1])!r}. Express the quantity in smaller units, "
-            "or make the two knots a jump (equal x)."
+    _check_x(xa)
+    i = first_bad((dx > 0) & (dx < MIN_SPACING))
+    if i is not None:
+        i += 1
+        raise bad(
+            f"Distinct knot positions must be at least {MIN_SPACING:g} apart",
+            f"x[{i}] - x[{i - 1}] = {float(dx[i - 1])!r}",
+            "Express the quantity in smaller units, or make the two knots a jump (equal x).",
+            "x",
+            i,
+            float(xa[i]),
         )
     tie = dx == 0
-    triple = np.flatnonzero(tie[1:] & tie[:-1])
-    if triple.size:
-        i = int(triple[0])
-        raise KnotError(
-            f"At most two knots may share an x (a jump); got x[{i}]=x[{i + 1}]=x[{i + 2}]="
-            f"{float(xa[i])!r}. Keep only the lowest and highest p at that x."
+    i = first_bad(tie[1:] & tie[:-1])
+    if i is not None:
+        raise bad(
+            "At most two knots may share an x (a jump)",
+            f"x[{i}]=x[{i + 1}]=x[{i + 2}]={float(xa[i])!r}",
+            "Keep only the lowest and highest p at that x.",
+            "x",
+            i,
+            float(xa[i]),
         )
-    empty = np.flatnonzero(tie & (dp == 0))
-    if empty.size:
-        i = int(empty[0])
-        raise KnotError(
-            f"Two knots at the same x must make a jump (p must rise); got x[{i}]=x[{i + 1}]="
-            f"{float(xa[i])!r} with p[{i}]=p[{i + 1}]={float(pa[i])!r}. Remove one of them."
+    i = first_bad(tie & (dp == 0))
+    if i is not None:
+        raise bad(
+            "Two knots at the same x must make a jump (p must rise)",
+            f"x[{i}]=x[{i + 1}]={float(xa[i])!r} with p[{i}]=p[{i + 1}]={float(pa[i])!r}",
+            "Remove one of them.",
+            "p",
+            i + 1,
+            float(pa[i]),
         )
     if not xa[-1] > xa[0]:
-        raise KnotError(
-            f"Knots must span a range of x; got all knots at x={float(xa[0])!r}. Spread the knots "
-            "over the range of the quantity (a point mass alone is not a sketch)."
+        raise bad(
+            "Knots must span a range of x",
+            f"all knots at x={float(xa[0])!r}",
+            "Spread the knots over the range of the quantity (a point mass alone is not a sketch).",
+            "x",
+            0,
+            float(xa[0]),
         )
     return xa, pa
 
@@ -229,13 +289,7 @@ def project_knots(x: object, p: object) -> tuple[np.ndarray, np.ndarray]:
     ([0.0, 1.0, 2.0], [0.0, 0.4, 0.4])
     """
     xa, pa = _as_pair(x, p)
-    big = np.flatnonzero(np.abs(xa) > MAX_ABS_X)
-    if big.size:
-        i = int(big[0])
-        raise KnotError(
-            f"Knot positions must satisfy |x| ≤ {MAX_ABS_X:g}; got x[{i}]={float(xa[i])!r}. "
-            "Express the quantity in larger units so the numbers stay moderate."
-        )
+    _check_x(xa)
     order = np.lexsort((pa, xa))
     xa = xa[order]
     # positions closer than MIN_SPACING become one position (a jump)
@@ -246,9 +300,13 @@ def project_knots(x: object, p: object) -> tuple[np.ndarray, np.ndarray]:
             xa[i] = xa[i - 1]
     pa = np.clip(_pool_adjacent_violators(pa[order]), 0.0, 1.0)
     if not xa[-1] > xa[0]:
-        raise KnotError(
-            f"Knots must span a range of x; got all knots at x={float(xa[0])!r}. Spread the knots "
-            "over the range of the quantity."
+        raise fail(
+            "Knots must span a range of x",
+            f"all knots at x={float(xa[0])!r}",
+            "Spread the knots over the range of the quantity.",
+            error=KnotError,
+            field="x",
+            value=float(xa[0]),
         )
     # keep the first and last knot of each run of equal x, and drop zero-mass jumps
     same_prev = np.r_[False, xa[1:] == xa[:-1]]
@@ -262,8 +320,8 @@ def project_knots(x: object, p: object) -> tuple[np.ndarray, np.ndarray]:
 def min_gap(x: np.ndarray) -> float:
     """Smallest x distance a drag keeps from a neighbouring knot.
 
-    It is :data:`MIN_GAP_FRACTION` of the knots' x range (and never less than
-    the spacing of floating-point numbers there).
+    It is :data:`MIN_GAP_FRACTION` of the knots' x range, and never less than
+    four floating-point steps there nor :data:`MIN_SPACING`.
 
     Examples
     --------
@@ -272,7 +330,17 @@ def min_gap(x: np.ndarray) -> float:
     """
     span = float(x[-1] - x[0])
     scale = max(abs(float(x[0])), abs(float(x[-1])), span)
-    return max(MIN_GAP_FRACTION * span, 4 * float(np.spacing(scale)))
+    return max(MIN_GAP_FRACTION * span, 4 * float(np.spacing(scale)), MIN_SPACING)
+
+
+def step_from(a: float, gap: float, up: bool) -> float:
+    """The double nearest ``a ± gap`` whose computed distance from ``a`` is at least ``gap``."""
+    v = a + gap if up else a - gap
+    for _ in range(4):
+        if (v - a if up else a - v) >= gap:
+            break
+        v = float(np.nextafter(v, np.inf if up else -np.inf))
+    return v
 
 
 def clamp_knot(
@@ -282,16 +350,22 @@ def clamp_knot(
     *,
     new_x: float | None = None,
     new_p: float | None = None,
-    x_low: float = -np.inf,
-    x_high: float = np.inf,
+    x_low: float = -MAX_ABS_X,
+    x_high: float = MAX_ABS_X,
+    min_dx: float = 0.0,
+    min_dp: float = 0.0,
 ) -> tuple[np.ndarray, np.ndarray]:
-    """Move knot ``i`` towards ``(new_x, new_p)``, clamped between its neighbours.
+    """Move knot ``i`` towards ``(new_x, new_p)``, clamped inside every knot rule.
 
-    No other knot moves. The new ``x`` stays strictly between the neighbours'
-    (by :func:`min_gap`) unless the knot already shares its neighbour's ``x``
-    (a jump), in which case it may stay there; ``p`` stays within
-    ``[p[i-1], p[i+1]]`` and ``[0, 1]``. ``x_low``/``x_high`` bound the end
-    knots (a bounded tail's limit, for instance).
+    No other knot moves, and the result always passes :func:`check_knots`
+    (the call never raises for finite input). The new ``x`` stays between the
+    neighbours' by ``max(min_dx, min_gap(x))`` when there is room for that,
+    by :func:`min_gap` when there is not, and stays where it is when even
+    that does not fit; a knot that already shares its neighbour's ``x`` (a
+    jump) may stay there. ``p`` stays within ``[p[i-1], p[i+1]]`` and
+    ``[0, 1]``, ``min_dp`` inside them when there is room; the two knots of a
+    jump keep a positive step. ``x_low``/``x_high`` bound the end knots (a
+    bounded tail's limit, for instance).
 
     Parameters
     ----------
@@ -303,6 +377,9 @@ def clamp_knot(
         Proposed position; ``None`` keeps the current value.
     x_low, x_high : float, optional
         Bounds for the first and last knot's ``x``.
+    min_dx, min_dp : float, optional
+        Gap kept from the neighbours in ``x`` and ``p`` when there is room
+        (an editor passes a visible gap, e.g. a fraction of its axis span).
 
     Returns
     -------
@@ -314,49 +391,51 @@ def clamp_knot(
     >>> x, p = clamp_knot([0, 1, 2], [0, 0.5, 1], 1, new_x=5.0, new_p=-1.0)
     >>> float(p[1]), bool(x[1] < 2)
     (0.0, True)
+    >>> x, p = clamp_knot([0, 1, 2], [0, 0.5, 1], 1, new_x=5.0, min_dx=0.1)
+    >>> float(x[1])
+    1.9
     """
     xa, pa = check_knots(x, p)
     n = xa.size
-    if not isinstance(i, int | np.integer) or not -n <= int(i) < n:
-        raise KnotError(
-            f"Knot index must be an integer in [{-n}, {n - 1}]; got {i!r}. "
-            "Use the position of the knot in sketch.x."
-        )
-    i = int(i) % n
-    gap = min_gap(xa)
+    i = integer(i, field="Knot index", low=-n, high=n - 1, error=KnotError, example="i=1") % n
+    gap_x = number(min_dx, field="min_dx", low=0.0, error=KnotError)
+    gap_p = number(min_dp, field="min_dp", low=0.0, high=1.0, error=KnotError)
+    x_low = max(number(x_low, field="x_low", finite=False, error=KnotError), -MAX_ABS_X)
+    x_high = min(number(x_high, field="x_high", finite=False, error=KnotError), MAX_ABS_X)
     if new_x is not None:
-        nx = _finite_scalar(new_x, "new_x")
-        # a knot that is half of a jump may stay on its partner's x; otherwise it keeps
-        # min_gap away from its neighbours
-        tie_lo = i > 0 and xa[i] == xa[i - 1]
-        tie_hi = i < n - 1 and xa[i] == xa[i + 1]
-        lo = (xa[i - 1] if tie_lo else xa[i - 1] + gap) if i > 0 else x_low
-        hi = (xa[i + 1] if tie_hi else xa[i + 1] - gap) if i < n - 1 else x_high
-        if hi < lo:  # neighbours closer than the gap: stay where we are
-            lo = hi = xa[i]
-        nx = min(max(nx, lo), hi)
-        if tie_lo and nx < xa[i - 1] + gap:
-            nx = xa[i - 1]
-        if tie_hi and nx > xa[i + 1] - gap:
-            nx = xa[i + 1]
-        xa[i] = nx
+        xa[i] = _clamp_x(xa, i, number(new_x, field="new_x", error=KnotError), x_low, x_high, gap_x)
     if new_p is not None:
-        np_ = _finite_scalar(new_p, "new_p")
+        target = number(new_p, field="new_p", finite=True, error=KnotError)
         lo = pa[i - 1] if i > 0 else 0.0
         hi = pa[i + 1] if i < n - 1 else 1.0
-        pa[i] = min(max(np_, lo), hi)
-    # a jump partner must keep a positive step
-    for j in (i - 1, i):
-        if 0 <= j < n - 1 and xa[j] == xa[j + 1] and pa[j] == pa[j + 1]:
-            pa[i] = np.nextafter(pa[i], 1.0 if j < i else 0.0)
+        if hi - lo >= 2 * gap_p:
+            lo, hi = lo + gap_p if i > 0 else lo, hi - gap_p if i < n - 1 else hi
+        pa[i] = min(max(target, lo), hi)
+    # the two knots of a jump keep a positive step
+    if i > 0 and xa[i] == xa[i - 1] and pa[i] <= pa[i - 1]:
+        pa[i] = np.nextafter(pa[i - 1], 1.0)
+    if i < n - 1 and xa[i] == xa[i + 1] and pa[i] >= pa[i + 1]:
+        pa[i] = np.nextafter(pa[i + 1], 0.0)
     return xa, pa
 
 
-def _finite_scalar(value: object, name: str) -> float:
-    try:
-        v = float(value)  # type: ignore[arg-type]
-    except (TypeError, ValueError):
-        raise KnotError(f"{name} must be a number; got {value!r}. Pass a float.") from None
-    if not np.isfinite(v):
-        raise KnotError(f"{name} must be finite; got {v!r}. Pass a finite float.")
-    return v
+def _clamp_x(
+    xa: np.ndarray, i: int, target: float, x_low: float, x_high: float, gap: float
+) -> float:
+    """Where knot ``i`` may go towards ``target`` (see :func:`clamp_knot`)."""
+    n = xa.size
+    base = min_gap(xa)
+    tie_lo = i > 0 and xa[i] == xa[i - 1]
+    tie_hi = i < n - 1 and xa[i] == xa[i + 1]
+    for g in (max(gap, base), base):
+        lo = step_from(float(xa[i - 1]), g, up=True) if i > 0 else x_low
+        hi = step_from(float(xa[i + 1]), g, up=False) if i < n - 1 else x_high
+        if lo <= hi:
+            break
+    else:
+        return float(xa[i])  # no room even for the smallest gap: stay
+    if tie_lo and target < lo:  # half of a jump stays on its partner until pulled clear
+        return float(xa[i - 1])
+    if tie_hi and target > hi:
+        return float(xa[i + 1])
+    return min(max(target, lo), hi)

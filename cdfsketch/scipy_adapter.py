@@ -13,6 +13,9 @@ from typing import TYPE_CHECKING, Any
 
 import numpy as np
 
+from . import _pieces
+from ._validate import fail, number
+
 if TYPE_CHECKING:
     from .sketch import Sketch
 
@@ -103,9 +106,7 @@ class FrozenSketch:
 
     def interval(self, confidence: float) -> tuple[float, float]:
         """Central interval holding ``confidence`` of the mass."""
-        c = float(confidence)
-        if not 0 <= c <= 1:
-            raise ValueError(f"confidence must be in [0, 1]; got {confidence!r}.")
+        c = number(confidence, field="confidence", low=0.0, high=1.0, example="confidence=0.9")
         return float(self.sketch.ppf((1 - c) / 2)), float(self.sketch.ppf((1 + c) / 2))
 
     def stats(self, moments: str = "mv") -> tuple[float, ...]:
@@ -114,12 +115,13 @@ class FrozenSketch:
         Central moments are computed about the mean directly, not from raw
         moments (which cancel badly far from zero).
         """
-        from . import _pieces
-
         unknown = sorted(set(moments) - set("mvsk"))
         if unknown:
-            raise ValueError(
-                f"moments takes the letters 'm', 'v', 's', 'k'; got {moments!r}. E.g. 'mvsk'."
+            raise fail(
+                "moments takes the letters 'm', 'v', 's', 'k'",
+                repr(moments),
+                "Pass e.g. moments='mvsk'.",
+                field="moments",
             )
         mu, var = self.mean(), self.var()
         pc = self.sketch._pieces

@@ -1,75 +1,48 @@
 """The CDF value: :class:`Sketch`, an immutable CDF drawn through knots.
 
-Only numpy is imported at module level. The constructors that build a sketch
-from judgements (``from_quantiles``, ``from_three_points``,
-``from_distribution``) delegate to :mod:`cdfsketch.elicit`, and ``from_data``
-to :mod:`cdfsketch.autoknots`, imported when first called.
+Only numpy is imported at module level. Sketches are built from judgements
+and data by the functions of :mod:`cdfsketch.elicit` (``from_quantiles``,
+``from_three_points``, ``from_distribution``, ``from_data``); this module
+imports none of them. The sampler, the summary and the scipy adapter are
+imported when first used; the spec writer and the provenance check
+(:mod:`cdfsketch.spec`, which never imports this module) likewise.
 """
 
 from __future__ import annotations
 
-import math
 from collections.abc import Mapping
-from typing import TYPE_CHECKING, Any, Literal, NamedTuple
+from typing import TYPE_CHECKING, Any, Literal
 
 import numpy as np
 
 from . import _pieces
+from ._distribution import Atom, PiecewiseDistribution
+from ._frozen import freeze, thaw
+from ._limits import MAX_NAME_CHARS, MAX_UNITS_CHARS
 from ._pieces import INTERPOLATIONS
-from .knots import KnotError, check_knots, clamp_knot
-from .spec import check_provenance
+from ._validate import (
+    KnotError,
+    choice,
+    fail,
+    integer,
+    mapping,
+    number,
+    text,
+)
+from .knots import check_knots, clamp_knot, min_gap, step_from
 from .tails import BoundedTail, Tail, as_tail
 
 if TYPE_CHECKING:
     from .sampler import Sampler
     from .scipy_adapter import FrozenSketch
+    from .summary import SketchSummary
 
 __all__ = ["Atom", "Sketch"]
 
 ArrayLike = Any
 
 
-class Atom(NamedTuple):
-    """A point mass: ``mass`` of probability at ``x``."""
-
-    x: float
-    mass: float
-
-
-def _as_values(values: ArrayLike, name: str) -> tuple[np.ndarray, bool]:
-    """Return ``values`` as a float array and whether the input was a scalar."""
-    try:
-        arr = np.asarray(values, dtype=float)
-    except (TypeError, ValueError):
-        raise TypeError(
-            f"{name} must be numbers; got {values!r}. Pass a float or an array of floats."
-        ) from None
-    if np.isnan(arr).any():
-        i = int(np.flatnonzero(np.isnan(arr.ravel()))[0])
-        raise ValueError(
-            f"{name} must not contain NaN; got NaN at flat index {i}. Drop or replace the "
-            "missing values first."
-        )
-    return arr, arr.ndim == 0
-
-
-def _as_probabilities(u: ArrayLike, name: str = "u") -> tuple[np.ndarray, bool]:
-    arr, scalar = _as_values(u, name)
-    bad = np.flatnonzero(((arr < 0) | (arr > 1)).ravel())
-    if bad.size:
-        i = int(bad[0])
-        raise ValueError(
-            f"{name} must be probabilities in [0, 1]; got {float(arr.ravel()[i])!r} at flat "
-            f"index {i}. Rescale or clip them."
-        )
-    return arr, scalar
-
-
-def _out(arr: np.ndarray, scalar: bool) -> Any:
-    return float(arr) if scalar else arr
-
-
-class Sketch:
+class Sketch(PiecewiseDistribution):
     """An immutable CDF drawn through knots.
 
     Parameters
@@ -127,25 +100,16 @@ class Sketch:
         units: str = "",
         provenance: Mapping[str, Any] | None = None,
     ) -> None:
+        from .spec import check_provenance  # below this module: never imports it
+
         xa, pa = check_knots(x, p)
-        if interpolation not in INTERPOLATIONS:
-            raise ValueError(
-                f"interpolation must be one of {INTERPOLATIONS}; got {interpolation!r}. "
-                "Use 'linear' for a piecewise-uniform density or 'pchip' for a smooth one."
-            )
-        for label, text in (("name", name), ("units", units)):
-            if not isinstance(text, str):
-                raise TypeError(
-                    f"{label} must be a str; got {type(text).__name__} {text!r}. Pass text, "
-                    f"e.g. {label}='repair time'."
-                )
-        if provenance is not None and not isinstance(provenance, Mapping):
-            raise TypeError(
-                f"provenance must be a mapping (dict); got {type(provenance).__name__}. "
-                "Pass e.g. provenance={'author': 'A. Analyst', 'rationale': '...'}."
-            )
+        choice(interpolation, field="interpolation", options=INTERPOLATIONS)
+        name = text(name, field="name", max_len=MAX_NAME_CHARS)
+        units = text(units, field="units", max_len=MAX_UNITS_CHARS)
+        if provenance is not None:
+            mapping(provenance, field="provenance")
         if provenance:
-            check_provenance(provenance)
+            check_provenance(thaw(provenance))
         lower = as_tail(lower_tail, "lower")
         upper = as_tail(upper_tail, "upper")
         xa.setflags(write=False)
@@ -159,7 +123,7 @@ class Sketch:
         set_(self, "_tails_given", (lower_tail is not None, upper_tail is not None))
         set_(self, "_name", name)
         set_(self, "_units", units)
-        set_(self, "_provenance", dict(provenance or {}))
+        set_(self, "_provenance", freeze(dict(provenance or {})))
         set_(self, "_pieces", pieces)
         set_(self, "_sampler", None)
 
@@ -222,20 +186,16 @@ class Sketch:
         return self._units
 
     @property
-    def provenance(self) -> dict[str, Any]:
-        """A copy of the provenance record."""
-        return dict(self._provenance)
+    def provenance(self) -> Mapping[str, Any]:
+        """The provenance record, read-only all the way down (``dict(...)`` for a copy).
 
-    @property
-    def support(self) -> tuple[float, float]:
-        """``(low, high)``: where the mass lies; infinite with exponential tails."""
-        return _pieces.support(self._pieces)
-
-    @property
-    def atoms(self) -> tuple[Atom, ...]:
-        """Point masses, one :class:`Atom` per pair of knots sharing an ``x``."""
-        pc = self._pieces
-        return tuple(Atom(float(a), float(m)) for a, m in zip(pc.atom_x, pc.atom_mass, strict=True))
+        Examples
+        --------
+        >>> s = Sketch([0, 1], [0, 1], provenance={"extra": {"runs": [1, 2]}})
+        >>> s.provenance["extra"]["runs"]
+        (1, 2)
+        """
+        return self._provenance
 
     def __len__(self) -> int:
         return int(self._x.size)
@@ -265,98 +225,9 @@ class Sketch:
     def __hash__(self) -> int:
         return hash(self._key())
 
-    # ------------------------------------------------------------ evaluation
-    def cdf(self, x: ArrayLike) -> Any:
-        """``P(X ≤ x)``, right-continuous at atoms.
-
-        Examples
-        --------
-        >>> Sketch([0, 0, 1], [0, 0.25, 1]).cdf([-1, 0, 0.5])
-        array([0.   , 0.25 , 0.625])
-        """
-        v, scalar = _as_values(x, "x")
-        return _out(_pieces.cdf(self._pieces, v.ravel()).reshape(v.shape), scalar)
-
-    def sf(self, x: ArrayLike) -> Any:
-        """``P(X > x) = 1 - cdf(x)``, accurate far into an exponential upper tail.
-
-        Examples
-        --------
-        >>> Sketch([0, 10], [0, 1]).sf(2.5)
-        0.75
-        """
-        v, scalar = _as_values(x, "x")
-        return _out(_pieces.sf(self._pieces, v.ravel()).reshape(v.shape), scalar)
-
-    def pdf(self, x: ArrayLike) -> Any:
-        """Density of the continuous part; atoms are reported by :attr:`atoms`.
-
-        Examples
-        --------
-        >>> Sketch([0, 10, 30], [0, 0.5, 1]).pdf([5, 20])
-        array([0.05 , 0.025])
-        """
-        v, scalar = _as_values(x, "x")
-        return _out(_pieces.pdf(self._pieces, v.ravel()).reshape(v.shape), scalar)
-
-    def ppf(self, u: ArrayLike) -> Any:
-        """Generalized inverse: the smallest ``x`` with ``cdf(x) ≥ u``.
-
-        Exact (closed form for linear pieces and tails, Newton–bisection to
-        rounding for cubic pieces). ``ppf(0)`` and ``ppf(1)`` are the support's
-        ends. For fast evaluation of many points use :meth:`sampler`.
-
-        Examples
-        --------
-        >>> Sketch([0, 0, 1], [0, 0.25, 1]).ppf([0.1, 0.25, 0.625])
-        array([0. , 0. , 0.5])
-        """
-        v, scalar = _as_probabilities(u)
-        return _out(_pieces.ppf(self._pieces, v.ravel()).reshape(v.shape), scalar)
-
-    def quantile(self, q: ArrayLike) -> Any:
-        """Quantiles at probabilities ``q`` (the same as :meth:`ppf`)."""
-        return self.ppf(q)
-
-    def median(self) -> float:
-        """The 50 % quantile."""
-        return float(self.ppf(0.5))
-
-    def isf(self, q: ArrayLike) -> Any:
-        """Inverse survival function ``ppf(1 - q)``, exact deep in an exponential upper tail.
-
-        Examples
-        --------
-        >>> Sketch([0, 10], [0, 1]).isf(0.25)
-        7.5
-        """
-        v, scalar = _as_probabilities(q, "q")
-        return _out(_pieces.isf(self._pieces, v.ravel()).reshape(v.shape), scalar)
-
-    def prob_between(self, a: float, b: float) -> float:
-        """``P(a < X ≤ b)``.
-
-        Examples
-        --------
-        >>> Sketch([0, 10], [0, 1]).prob_between(2, 5)
-        0.3
-        """
-        fa, fb = float(self.cdf(a)), float(self.cdf(b))
-        if b < a:
-            raise ValueError(f"prob_between needs a ≤ b; got a={a!r} > b={b!r}. Swap them.")
-        return fb - fa
-
-    def prob_above(self, t: float) -> float:
-        """``P(X > t)``.
-
-        Examples
-        --------
-        >>> Sketch([0, 10], [0, 1]).prob_above(8)
-        0.2
-        """
-        return 1.0 - float(self.cdf(t))
-
-    def summary(self, *, probabilities: tuple[float, ...] = (0.05, 0.25, 0.5, 0.75, 0.95)) -> Any:
+    def summary(
+        self, *, probabilities: tuple[float, ...] = (0.05, 0.25, 0.5, 0.75, 0.95)
+    ) -> SketchSummary:
         """What an expert needs to check a judgement: see :func:`cdfsketch.summary.summary`.
 
         Examples
@@ -367,41 +238,6 @@ class Sketch:
         from .summary import summary
 
         return summary(self, probabilities=probabilities)
-
-    # ------------------------------------------------------------ moments
-    def moment(self, k: int) -> float:
-        """Raw moment ``E[X^k]``, exact (closed form per piece).
-
-        Examples
-        --------
-        >>> round(Sketch([0, 1], [0, 1]).moment(2), 12)
-        0.333333333333
-        """
-        if isinstance(k, bool) or not isinstance(k, int | np.integer) or k < 0:
-            raise ValueError(
-                f"moment order must be a non-negative integer; got {k!r}. Pass e.g. k=2."
-            )
-        return _pieces.central_moment(self._pieces, int(k), 0.0)
-
-    def mean(self) -> float:
-        """Mean, exact.
-
-        Examples
-        --------
-        >>> Sketch([0, 1, 3], [0, 0.5, 1]).mean()
-        1.25
-        """
-        # shift by a representative point first for accuracy far from zero
-        c = float(np.median(self._x))
-        return c + _pieces.central_moment(self._pieces, 1, c)
-
-    def var(self) -> float:
-        """Variance, exact (computed about the mean, not as E[X²] − E[X]²)."""
-        return max(_pieces.central_moment(self._pieces, 2, self.mean()), 0.0)
-
-    def std(self) -> float:
-        """Standard deviation, exact."""
-        return math.sqrt(self.var())
 
     # ------------------------------------------------------------ sampling
     def sampler(self) -> Sampler:
@@ -419,7 +255,9 @@ class Sketch:
             object.__setattr__(self, "_sampler", Sampler(self))
         return self._sampler  # type: ignore[return-value]
 
-    def sample(self, size: int | tuple[int, ...] | None = None, *, rng: Any = None) -> Any:
+    def sample(
+        self, size: int | tuple[int, ...] | None = None, *, rng: Any = None, out: Any = None
+    ) -> Any:
         """Draw ``size`` values by inverse transform with the compiled sampler.
 
         Parameters
@@ -429,6 +267,8 @@ class Sketch:
         rng : optional
             Anything :func:`numpy.random.default_rng` takes (a seed, a
             ``Generator``, ``None``). Never global state.
+        out : ndarray, optional
+            A float64 array to fill in place (see :meth:`Sampler.sample`).
 
         Examples
         --------
@@ -436,7 +276,7 @@ class Sketch:
         >>> bool(np.array_equal(s.sample(5, rng=1), s.sample(5, rng=1)))
         True
         """
-        return self.sampler().sample(size, rng=rng)
+        return self.sampler().sample(size, rng=rng, out=out)
 
     # ------------------------------------------------------------ editing
     def replace(self, **changes: Any) -> Sketch:
@@ -459,7 +299,10 @@ class Sketch:
         )
         unknown = sorted(set(changes) - set(allowed))
         if unknown:
-            raise TypeError(f"replace() got unknown field(s) {unknown}; allowed: {allowed}.")
+            raise TypeError(
+                f"replace() takes only {', '.join(allowed)}; got {', '.join(unknown)}. "
+                "Check the spelling."
+            )
         args: dict[str, Any] = {
             "x": self._x,
             "p": self._p,
@@ -468,7 +311,7 @@ class Sketch:
             "upper_tail": self._tails[1] if self._tails_given[1] else None,
             "name": self._name,
             "units": self._units,
-            "provenance": self._provenance,
+            "provenance": thaw(self._provenance),
         }
         args.update(changes)
         x, p = args.pop("x"), args.pop("p")
@@ -479,22 +322,47 @@ class Sketch:
         hi = self.upper_tail.limit if isinstance(self.upper_tail, BoundedTail) else np.inf
         return lo, hi
 
-    def move_knot(self, i: int, *, x: float | None = None, p: float | None = None) -> Sketch:
-        """Move knot ``i`` towards ``(x, p)``, clamped between its neighbours.
+    def move_knot(
+        self,
+        i: int,
+        *,
+        x: float | None = None,
+        p: float | None = None,
+        min_dx: float = 0.0,
+        min_dp: float = 0.0,
+    ) -> Sketch:
+        """Move knot ``i`` towards ``(x, p)``, clamped inside every rule the constructor enforces.
 
-        No other knot moves; ``x`` stays strictly between the neighbours (and
-        inside a bounded tail's limit), ``p`` within ``[p[i-1], p[i+1]]``.
+        No other knot moves and the call never raises for finite input: ``x``
+        stays between the neighbours (by ``min_dx`` when there is room, else
+        by the smallest gap a drag keeps, :func:`cdfsketch.knots.min_gap`) and
+        inside a bounded tail's limit, ``p`` within ``[p[i-1], p[i+1]]`` (by
+        ``min_dp`` when there is room). An editor passes a visible gap as
+        ``min_dx`` (e.g. a fraction of its axis span).
 
         Examples
         --------
         >>> s = Sketch([0, 1, 2], [0, 0.5, 1]).move_knot(1, x=9, p=0.7)
         >>> bool(s.x[1] < 2), float(s.p[1])
         (True, 0.7)
+        >>> float(Sketch([0, 1, 2], [0, 0.5, 1]).move_knot(1, x=9, min_dx=0.25).x[1])
+        1.75
         """
         lo, hi = self._x_limits()
-        gap_lo = lo + (abs(lo) + 1.0) * 1e-12 if np.isfinite(lo) else lo
-        gap_hi = hi - (abs(hi) + 1.0) * 1e-12 if np.isfinite(hi) else hi
-        nx, np_ = clamp_knot(self._x, self._p, i, new_x=x, new_p=p, x_low=gap_lo, x_high=gap_hi)
+        gap = min_gap(self._x)
+        x_low = step_from(lo, gap, up=True) if np.isfinite(lo) else lo
+        x_high = step_from(hi, gap, up=False) if np.isfinite(hi) else hi
+        nx, np_ = clamp_knot(
+            self._x,
+            self._p,
+            i,
+            new_x=x,
+            new_p=p,
+            x_low=x_low,
+            x_high=x_high,
+            min_dx=min_dx,
+            min_dp=min_dp,
+        )
         # an end knot sitting on its bounded tail's limit keeps the tail empty
         if nx[0] <= lo:
             np_[0] = 0.0
@@ -514,15 +382,17 @@ class Sketch:
         >>> Sketch([0, 2], [0, 1]).with_knot(1, 0.9).p.tolist()
         [0.0, 0.9, 1.0]
         """
-        xv = float(x)
-        pv = float(p)
-        if not (math.isfinite(xv) and math.isfinite(pv)):
-            raise KnotError(f"A new knot must be finite; got ({x!r}, {p!r}).")
+        xv = number(x, field="x", error=KnotError)
+        pv = number(p, field="p", error=KnotError)
         lo, hi = self._x_limits()
         if not lo < xv < hi:
-            raise KnotError(
-                f"A new knot must lie inside the bounded tails' limits ({lo}, {hi}); got x={xv!r}."
-                " Move the limit first."
+            raise fail(
+                f"A new knot must lie inside the bounded tails' limits ({lo:g}, {hi:g})",
+                f"x={xv!r}",
+                "Move the limit first.",
+                error=KnotError,
+                field="x",
+                value=xv,
             )
         i = int(np.searchsorted(self._x, xv, side="right"))
         if i > 0 and self._x[i - 1] == xv and pv < self._p[i - 1]:
@@ -543,14 +413,15 @@ class Sketch:
         [0.0, 2.0]
         """
         n = self._x.size
-        if not isinstance(i, int | np.integer) or not -n <= int(i) < n:
-            raise KnotError(f"Knot index must be an integer in [{-n}, {n - 1}]; got {i!r}.")
+        j = integer(i, field="Knot index", low=-n, high=n - 1, error=KnotError, example="i=1") % n
         if n <= 2:
-            raise KnotError(
-                f"A sketch keeps at least 2 knots; this one has {n}. Add a knot before "
-                "removing this one."
+            raise fail(
+                "A sketch keeps at least 2 knots",
+                f"this one has {n}",
+                "Add a knot before removing this one.",
+                error=KnotError,
+                field="x",
             )
-        j = int(i) % n
         return self.replace(x=np.delete(self._x, j), p=np.delete(self._p, j))
 
     # ------------------------------------------------------------ conversion
@@ -564,7 +435,7 @@ class Sketch:
         """
         from .spec import sketch_to_spec
 
-        return sketch_to_spec(self, **provenance)
+        return sketch_to_spec(_PlainProvenance(self), **provenance)
 
     def to_json(self, path: Any = None, **provenance: Any) -> str:
         """The spec as JSON text; written to ``path`` when given.
@@ -591,31 +462,22 @@ class Sketch:
 
         return FrozenSketch(self)
 
-    # ------------------------------------------------------------ constructors
-    @classmethod
-    def from_quantiles(cls, q: Mapping[float, float], **options: Any) -> Sketch:
-        """Build a sketch from stated quantiles; see :func:`cdfsketch.elicit.from_quantiles`."""
-        from .elicit import from_quantiles
 
-        return from_quantiles(q, **options)
+class _PlainProvenance:
+    """The sketch as the spec writer reads it, with its provenance as plain dicts and lists.
 
-    @classmethod
-    def from_three_points(cls, low: float, mode: float, high: float, **options: Any) -> Sketch:
-        """Three-point estimate; see :func:`cdfsketch.elicit.from_three_points`."""
-        from .elicit import from_three_points
+    The writer checks the record with the same rules as a loaded file (lists,
+    not tuples); the sketch keeps its frozen record.
+    """
 
-        return from_three_points(low, mode, high, **options)
+    __slots__ = ("_sketch",)
 
-    @classmethod
-    def from_distribution(cls, dist: Any, **options: Any) -> Sketch:
-        """Knots at quantiles of ``dist``; see :func:`cdfsketch.elicit.from_distribution`."""
-        from .elicit import from_distribution
+    def __init__(self, sketch: Sketch) -> None:
+        self._sketch = sketch
 
-        return from_distribution(dist, **options)
+    def __getattr__(self, key: str) -> Any:
+        return getattr(self._sketch, key)
 
-    @classmethod
-    def from_data(cls, data: ArrayLike, **options: Any) -> Sketch:
-        """Fewest knots inside the data's band; see :func:`cdfsketch.autoknots.from_data`."""
-        from .autoknots import from_data
-
-        return from_data(data, **options)
+    @property
+    def provenance(self) -> dict[str, Any]:
+        return thaw(self._sketch.provenance)

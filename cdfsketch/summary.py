@@ -22,13 +22,17 @@ from __future__ import annotations
 import html
 import math
 from dataclasses import dataclass, field
-from typing import Any
+from typing import TYPE_CHECKING, Any
 
 import numpy as np
 
 from . import _pieces
-from .sketch import Atom, Sketch
+from ._validate import fail, first_bad
+from ._validate import probabilities as _probabilities
 from .tails import BoundedTail, ExponentialTail
+
+if TYPE_CHECKING:
+    from .sketch import Atom, Sketch
 
 __all__ = ["SketchSummary", "summary"]
 
@@ -212,6 +216,31 @@ def _beyond_stated(sk: Sketch) -> tuple[list[BeyondStated], list[str]]:
     return out, notes
 
 
+def _support_ends(sk: Sketch) -> list[str]:
+    """A warning for each side where the support stops at a knot with no tail stated.
+
+    A simulation then never draws beyond that knot (for a sketch made from
+    data: beyond the smallest or largest observation). A side whose tail was
+    stated (``lower_tail=``/``upper_tail=``), or whose bound the expert stated
+    (``provenance["extra"]``: ``lower_bound``/``upper_bound`` or
+    ``ends_stated``), ends where the user said.
+    """
+    out = []
+    low, high = sk.support
+    extra = sk.provenance.get("extra") or {}
+    ends_stated = extra.get("ends_stated", (False, False))
+    for side, end, where, word in ((0, low, "below", "a lower"), (1, high, "above", "an upper")):
+        if sk.tail_mass[side] > 0 or sk.tails_given[side] or not math.isfinite(end):
+            continue  # mass beyond, or an end stated on purpose (a tail setting was given)
+        if ends_stated[side] or extra.get(f"{word.split()[1]}_bound") is not None:
+            continue  # the expert stated this bound (from_quantiles lower=/upper=)
+        out.append(
+            f"support ends at {end:.6g}: a simulation never draws {where} it; add "
+            f"{word} tail to allow {'smaller' if side == 0 else 'larger'} values."
+        )
+    return out
+
+
 def summary(sketch: Sketch, *, probabilities: Any = (0.05, 0.25, 0.5, 0.75, 0.95)) -> SketchSummary:
     """What ``sketch`` implies, to check it against the expert's judgement.
 
@@ -230,7 +259,9 @@ def summary(sketch: Sketch, *, probabilities: Any = (0.05, 0.25, 0.5, 0.75, 0.95
         the segment), ``iqr``, ``quantiles`` as ``(p, x)`` pairs, ``support``,
         ``atoms``, ``tail_mass`` and ``tail_models``, ``beyond_stated`` (mass
         beyond the outermost stated quantiles and what holds it) and
-        ``warnings``. ``str()`` gives text, ``_repr_html_()`` escaped HTML.
+        ``warnings`` (counted: ``len(s.warnings)``), among them one for each
+        side where the support stops at a knot with no tail stated, as for a
+        sketch made from data with no tails. ``str()`` gives text, ``_repr_html_()`` escaped HTML.
 
     Examples
     --------
@@ -239,20 +270,20 @@ def summary(sketch: Sketch, *, probabilities: Any = (0.05, 0.25, 0.5, 0.75, 0.95
     >>> s.mean, s.mode, s.mode_interval, s.quantiles
     (3.5, 1.0, (0.0, 2.0), ((0.5, 2.0),))
     """
-    if not isinstance(sketch, Sketch):
-        raise TypeError(f"summary() needs a Sketch; got {type(sketch).__name__}.")
-    try:
-        probs = np.asarray(probabilities, dtype=float).ravel()
-    except (TypeError, ValueError):
-        raise ValueError(
-            f"probabilities must be numbers in (0, 1); got {probabilities!r}."
-        ) from None
-    bad = np.flatnonzero(~((probs > 0) & (probs < 1)))
-    if bad.size:
-        i = int(bad[0])
-        raise ValueError(
-            f"probabilities must lie strictly inside (0, 1); got probabilities[{i}]="
-            f"{float(probs[i])!r}. Use e.g. (0.05, 0.25, 0.5, 0.75, 0.95)."
+    if not isinstance(getattr(sketch, "_pieces", None), _pieces.Pieces):
+        raise TypeError(
+            f"summary() needs a Sketch; got {type(sketch).__name__}. Pass a cdfsketch.Sketch "
+            "(e.g. one made by cdfsketch.from_quantiles)."
+        )
+    probs = _probabilities(probabilities, field="probabilities")[0].ravel()
+    i = first_bad((probs <= 0) | (probs >= 1))
+    if i is not None:
+        raise fail(
+            "probabilities must lie strictly inside (0, 1)",
+            f"probabilities[{i}]={float(probs[i])!r}",
+            "Use e.g. (0.05, 0.25, 0.5, 0.75, 0.95).",
+            field="probabilities",
+            index=i,
         )
     qs = np.asarray(sketch.ppf(probs), dtype=float)
     q25, q75 = (float(v) for v in sketch.ppf(np.array([0.25, 0.75])))
@@ -269,6 +300,7 @@ def summary(sketch: Sketch, *, probabilities: Any = (0.05, 0.25, 0.5, 0.75, 0.95
                 f"model ({tail_models[side]}); it was not stated. State {name}_tail= "
                 "(BoundedTail or ExponentialTail) if you know better."
             )
+    warns += _support_ends(sketch)
     prov = sketch.provenance
     contributors = tuple(
         (str(c.get("name", "")), float(c.get("weight", math.nan)))

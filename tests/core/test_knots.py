@@ -105,8 +105,8 @@ def test_clamp_knot_keeps_jump_positive():
     [
         ({"i": 5}, r"integer in \[-3, 2\]; got 5"),
         ({"i": 1.0}, "integer"),
-        ({"i": 1, "new_x": np.nan}, "new_x must be finite"),
-        ({"i": 1, "new_p": "high"}, "new_p must be a number"),
+        ({"i": 1, "new_x": np.nan}, "new_x must be a finite number; got nan"),
+        ({"i": 1, "new_p": "high"}, r"new_p must be a finite number; got .high. \(str\)"),
     ],
 )
 def test_clamp_knot_bad_input(kwargs, match):

@@ -148,7 +148,7 @@ def test_replace_validates_and_rejects_unknown_fields():
     s = Sketch([0, 1], [0, 1], name="delay", units="h")
     t = s.replace(interpolation="pchip")
     assert t.name == "delay" and t.interpolation == "pchip"
-    with pytest.raises(TypeError, match="unknown field"):
+    with pytest.raises(TypeError, match=r"replace\(\) takes only x, p"):
         s.replace(colour="red")
 
 
@@ -156,9 +156,9 @@ def test_replace_validates_and_rejects_unknown_fields():
     ("args", "kwargs", "exc", "match"),
     [
         (([0, 1], [0, 1]), {"interpolation": "cubic"}, ValueError, "interpolation must be one of"),
-        (([0, 1], [0, 1]), {"lower_tail": "bounded"}, ValueError, "lower tail must be"),
-        (([0, 1], [0, 1]), {"name": 3}, TypeError, "name must be a str"),
-        (([0, 1], [0, 1]), {"provenance": [1]}, TypeError, "provenance must be a mapping"),
+        (([0, 1], [0, 1]), {"lower_tail": "bounded"}, ValueError, "lower_tail must be a Bounded"),
+        (([0, 1], [0, 1]), {"name": 3}, ValueError, "name must be a str; got int 3"),
+        (([0, 1], [0, 1]), {"provenance": [1]}, ValueError, "provenance must be a mapping"),
         (([0, 1], [0.5, 1]), {"lower_tail": BoundedTail(0.5)}, KnotError, "limit below"),
         (([0, 1], [0, 0.5]), {"upper_tail": BoundedTail(1.0)}, KnotError, "limit above"),
         ((["a", "b"], [0, 1]), {}, KnotError, "must be numbers"),
@@ -176,7 +176,7 @@ def test_constructor_bad_input(args, kwargs, exc, match):
         (lambda s: s.ppf([0.2, -0.1]), "flat index 1"),
         (lambda s: s.cdf(np.nan), "must not contain NaN"),
         (lambda s: s.cdf("abc"), "must be numbers"),
-        (lambda s: s.moment(-1), "non-negative integer"),
+        (lambda s: s.moment(-1), "moment order k must be an integer ≥ 0"),
         (lambda s: s.sample(-3), "non-negative integer"),
         (lambda s: s.sample(2.5), "non-negative integer"),
         (lambda s: s.prob_between(3, 1), "a ≤ b"),
@@ -191,12 +191,12 @@ def test_method_bad_input(call, match):
     ("make", "match"),
     [
         (lambda: BoundedTail(np.inf), "finite"),
-        (lambda: BoundedTail("x"), "must be a number"),
+        (lambda: BoundedTail("x"), r"limit must be a finite number .*\(str\)"),
         # like knot positions (|x| ≤ 1e100): a limit at 1e308 overflows the tail's slope
-        (lambda: BoundedTail(-1e308), r"\|limit\| ≤ 1e\+100"),
+        (lambda: BoundedTail(-1e308), r"limit must be a finite number in \[-1e\+100, 1e\+100\]"),
         (lambda: BoundedTail(0.0, density="steep"), "density must be one of"),
-        (lambda: ExponentialTail(-1.0), "positive"),
-        (lambda: ExponentialTail("big"), "positive number or None"),
+        (lambda: ExponentialTail(-1.0), r"scale must be a finite number in \(0, 1e\+100\]"),
+        (lambda: ExponentialTail("big"), r"scale must be a finite number .*\(str\).*or scale=None"),
     ],
 )
 def test_tail_bad_input(make, match):
