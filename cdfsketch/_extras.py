@@ -23,7 +23,6 @@ EXTRAS = {
     "fit": "candidate fits, scores and comparison (scipy)",
     "notebook": "the Editor and ReviewBoard widgets (ipywidgets, bqplot, traitlets)",
     "review": "static review figures (matplotlib)",
-    "schema": "validate_spec against the shipped JSON Schema (jsonschema)",
     "dask": "sampling and model runs on Dask",
     "parquet": "writing samples as .parquet (pyarrow)",
     "progress": "progress bars on long command-line runs (tqdm)",

@@ -72,9 +72,11 @@ def _h(v: float) -> str:
 
 
 def _automatic_start(hours: np.ndarray) -> Any:
-    from .autoknots import from_data
+    from .elicit import from_data
 
-    return from_data(hours, level=0.95, name="pump repair time (invented)", units="h")
+    return from_data(
+        hours, level=0.95, max_knots=START_KNOTS, name="pump repair time (invented)", units="h"
+    )
 
 
 def run(out: Any = "cdfsketch-demo", *, echo: Callable[[str], Any] = print) -> list[Path]:
@@ -88,8 +90,9 @@ def run(out: Any = "cdfsketch-demo", *, echo: Callable[[str], Any] = print) -> l
         Receives each line of the story (``print`` by default).
     """
     from ._files import check_output_path
-    from .fit import compare, fit_candidates
-    from .report import Review
+    from .fit import fit_candidates
+    from .metrics import compare
+    from .review import Review, save_html
     from .tails import BoundedTail, ExponentialTail
 
     folder = Path(out)
@@ -180,7 +183,7 @@ def run(out: Any = "cdfsketch-demo", *, echo: Callable[[str], Any] = print) -> l
         echo(f"   >>> {line}")
     echo(f"   mean {mean} h, 90th percentile {q90} h, largest of 100,000 draws {top} h.")
 
-    review.save_html(page_path)
+    save_html(review, page_path)
     echo(f"8. Review page written: {page_path} — open it in a browser (works offline).")
     echo(f"Done in {time.perf_counter() - t0:.1f} s. Files written: {spec_path}, {page_path}.")
     echo(

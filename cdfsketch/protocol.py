@@ -46,6 +46,7 @@ from typing import Any, Protocol, runtime_checkable
 
 import numpy as np
 
+from ._distribution import Atom
 from ._validate import InputError, fail, quote
 
 __all__ = ["CDFModel", "Model", "as_model"]
@@ -164,9 +165,11 @@ class Model:
 
     # ------------------------------------------------------------ protocol
     @property
-    def atoms(self) -> tuple[tuple[float, float], ...]:
-        """Point masses as ``(x, mass)`` pairs, sorted by ``x``."""
-        return tuple(zip(self._atom_x.tolist(), self._atom_mass.tolist(), strict=True))
+    def atoms(self) -> tuple[Atom, ...]:
+        """Point masses as :class:`~cdfsketch.Atom` ``(x, mass)`` pairs, sorted by ``x``."""
+        return tuple(
+            Atom(x, m) for x, m in zip(self._atom_x.tolist(), self._atom_mass.tolist(), strict=True)
+        )
 
     def atom_table(self) -> tuple[np.ndarray, np.ndarray]:
         """The atoms as two arrays ``(x, mass)`` (sorted by ``x``)."""

@@ -1,6 +1,6 @@
 """Automatic knots: a sketch with few knots that stays inside the data's band.
 
-:func:`from_data` is what ``Sketch.from_data`` calls. Only numpy (and the
+:func:`from_data` is what ``cdfsketch.from_data`` names. Only numpy (and the
 core modules) are imported here.
 
 What "inside the band" means

@@ -10,7 +10,7 @@ from typing import Any, Literal
 import numpy as np
 
 from .._frozen import freeze, thaw
-from .._validate import integer, number, probabilities, quote, values
+from .._validate import probabilities, quote, values
 from ..empirical import as_data
 from .engines import Engine
 
@@ -183,56 +183,34 @@ class Candidate:
         name: str = "",
         units: str = "",
     ) -> Any:
-        """A :class:`~cdfsketch.Sketch` with ``knots`` knots at this candidate's quantiles.
+        """This candidate as a :class:`~cdfsketch.Sketch`: knots at its quantiles.
 
-        The knot probabilities are equally spaced from ``tail_mass`` to
-        ``1 - tail_mass``; on a side where the support is finite the outer
-        knot sits at the support's end with probability 0 (or 1) instead.
-        Beyond an outer knot holding tail mass the sketch gets its default
-        exponential tail (continuing the density). Provenance:
-        ``method="from candidate fit <name>"`` with the parameters in ``extra``.
+        The package's one target-to-knots function,
+        :func:`cdfsketch.elicit.reknot`: it starts from ``knots`` quantiles and
+        adds knots until the sketch's CDF is within 1e-3 of the fit's (the
+        achieved error is in ``provenance["extra"]["max_abs_cdf_error"]``);
+        ``tail_mass`` is left beyond an outer knot on an unbounded side, in an
+        exponential tail continuing the density. Provenance:
+        ``method="from candidate fit <name>"`` with the family and parameters
+        in ``extra``.
 
         Examples
         --------
         >>> from cdfsketch.fit import fit_family
         >>> s = fit_family("uniform", [0.0, 1.0, 2.0]).to_sketch(knots=3, interpolation="linear")
-        >>> s.x.tolist(), s.p.tolist()
-        ([0.0, 1.0, 2.0], [0.0, 0.5, 1.0])
+        >>> s.support, float(s.cdf(1.0))
+        ((0.0, 2.0), 0.5)
         """
-        knots = integer(knots, field="knots", low=2, example="knots=20")
-        tail_mass = number(
-            tail_mass,
-            field="tail_mass",
-            low=0.0,
-            high=0.5,
-            low_open=True,
-            high_open=True,
-            example="tail_mass=0.01",
-        )
-        from ..sketch import Sketch
+        from ..elicit import reknot
 
-        lo, hi = self.support
-        p_lo = 0.0 if math.isfinite(lo) else tail_mass
-        p_hi = 1.0 if math.isfinite(hi) else 1.0 - tail_mass
-        p = np.linspace(p_lo, p_hi, int(knots))
-        x = np.asarray(self.engine.ppf(p), dtype=float)
-        if math.isfinite(lo):
-            x[0] = lo
-        if math.isfinite(hi):
-            x[-1] = hi
-        keep = np.r_[True, np.diff(x) > 0]
-        prov = {
-            "method": f"from candidate fit {self.name}",
-            "extra": {"family": self.family, "params": thaw(self.params)},
-        }
-        return Sketch(
-            x[keep],
-            p[keep],
-            interpolation=interpolation,
-            name=name or self.name,
-            units=units,
-            provenance=prov,
-        )
+        sk = reknot(
+            self, knots=knots, interpolation=interpolation, tail_mass=tail_mass,
+            name=name or self.name, units=units,
+        )  # fmt: skip
+        prov = thaw(sk.provenance)
+        prov["method"] = f"from candidate fit {self.name}"
+        prov.setdefault("extra", {}).update({"family": self.family, "params": thaw(self.params)})
+        return sk.replace(provenance=prov)
 
 
 class CandidateList(list):

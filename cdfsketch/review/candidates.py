@@ -19,7 +19,9 @@ import numpy as np
 from .._frozen import thaw
 from .._limits import MAX_NAME_CHARS
 from .._validate import InputError, fail, quote, text
+from ..elicit import reknot
 from ..empirical import ECDF
+from ..protocol import CDFModel, as_model
 from ..sketch import Atom, Sketch
 
 __all__ = ["FIT_KNOTS", "FIT_TAIL_MASS", "ReviewCandidate", "as_candidate", "check_unique"]
@@ -31,50 +33,13 @@ FIT_TAIL_MASS = 0.001
 _DESCRIPTIONS = {"sketch": "judgement (sketch)", "fit": "fitted family", "data": "resampled data"}
 
 
-class _Model:
-    """A candidate behind the shared CDF contract (until the package-wide protocol lands).
-
-    Sketches and fit candidates already answer ``cdf``, ``sf``, ``pdf`` and
-    ``ppf``; an ECDF has no density (every value is an atom: ``pdf`` is 0).
-    """
-
-    def __init__(self, obj: Any) -> None:
-        self._obj = obj
-        if isinstance(obj, ECDF):
-            x, p = np.asarray(obj.x, float), np.asarray(obj.p, float)
-            self.atoms = tuple(
-                Atom(float(a), float(m)) for a, m in zip(x, np.diff(p, prepend=0.0), strict=True)
-            )
-            self.breakpoints = x
-        else:
-            self.atoms = tuple(getattr(obj, "atoms", ()))
-            self.breakpoints = np.asarray(getattr(obj, "x", ()), float)
-        self.support = tuple(float(v) for v in obj.support)
-
-    def cdf(self, x: Any) -> np.ndarray:
-        return np.asarray(self._obj.cdf(np.asarray(x, dtype=float)), dtype=float)
-
-    def sf(self, x: Any) -> np.ndarray:
-        if hasattr(self._obj, "sf"):
-            return np.asarray(self._obj.sf(np.asarray(x, dtype=float)), dtype=float)
-        return 1.0 - self.cdf(x)
-
-    def pdf(self, x: Any) -> np.ndarray:
-        v = np.asarray(x, dtype=float)
-        if isinstance(self._obj, ECDF):
-            return np.zeros(v.shape)
-        return np.asarray(self._obj.pdf(v), dtype=float)
-
-    def ppf(self, u: Any) -> np.ndarray:
-        return np.asarray(self._obj.ppf(np.asarray(u, dtype=float)), dtype=float)
-
-
-def _as_model(obj: Any) -> _Model:
+def _as_model(obj: Any) -> CDFModel:
     """The candidate as a model with ``cdf, sf, pdf, ppf, support, atoms, breakpoints``.
 
-    The ONE door from what the user passed to what the review evaluates.
+    The ONE door from what the user passed to what the review evaluates: the
+    package's protocol adapter, :func:`cdfsketch.protocol.as_model`.
     """
-    return _Model(obj)
+    return as_model(obj, field="candidates")
 
 
 def _step_sketch(ecdf: ECDF, where: str) -> Sketch:
@@ -107,18 +72,21 @@ def _step_sketch(ecdf: ECDF, where: str) -> Sketch:
     )
 
 
-def _sketch_form(obj: Any, model: _Model, units: str) -> tuple[Sketch, str]:
+def _sketch_form(obj: Any, units: str) -> tuple[Sketch, str]:
     """The candidate as a sketch (drawn on the page, written as the chosen spec), and how.
 
-    The ONE place where a distribution becomes knots for the review.
+    The ONE place where a distribution becomes knots for the review: the
+    package's one target-to-knots function, :func:`cdfsketch.elicit.reknot`.
     """
-    sk = obj.to_sketch(knots=FIT_KNOTS, interpolation="pchip", tail_mass=FIT_TAIL_MASS, units=units)
-    lo, hi = (float(v) for v in model.ppf(np.array([1e-5, 1 - 1e-5])))
-    grid = np.linspace(lo, hi, 4001)
-    err = float(np.max(np.abs(model.cdf(grid) - sk.cdf(grid))))
+    sk = reknot(
+        obj, knots=FIT_KNOTS, interpolation="pchip", tail_mass=FIT_TAIL_MASS,
+        name=obj.name, units=units,
+    )  # fmt: skip
+    err = float(sk.provenance["extra"]["max_abs_cdf_error"])
     prov = thaw(sk.provenance)
+    prov["method"] = f"from candidate fit {obj.name}"
     prov.setdefault("extra", {}).update(
-        {"knots_from_fit": int(sk.x.size), "max_abs_cdf_error_vs_fit": err}
+        {"family": obj.family, "params": thaw(obj.params), "knots_from_fit": int(sk.x.size)}
     )
     note = (
         f"fitted {obj.family} written as a sketch with {sk.x.size} knots "
@@ -222,7 +190,7 @@ def as_candidate(obj: Any, i: int, units: str) -> ReviewCandidate:
         return ReviewCandidate(
             name, "sketch", model, obj, obj, str(obj.provenance.get("method", ""))
         )
-    sk, note = _sketch_form(obj, model, units)
+    sk, note = _sketch_form(obj, units)
     return ReviewCandidate(name, "fit", model, obj, sk, note)
 
 

@@ -20,7 +20,8 @@ from .._limits import MAX_NAME_CHARS, MAX_TEXT_CHARS, MAX_UNITS_CHARS
 from .._progress import check_progress
 from .._validate import fail, number, quote, text
 from ..empirical import ECDF, as_data
-from ..spec import data_fingerprint, validate_spec
+from ..loading import validate_spec
+from ..spec import data_fingerprint
 from .candidates import ReviewCandidate, as_candidate, check_unique
 from .palette import Style, style
 from .table import finite_or_none
@@ -115,7 +116,7 @@ class Review:
             self.data.setflags(write=False)
             self._ecdf = ECDF(self.data)
             self._fingerprint = freeze(data_fingerprint(self.data))
-            from ..fit import compare
+            from ..metrics import compare
 
             table = compare(
                 self.data,

@@ -163,10 +163,6 @@ def from_portable(item: tuple[str, Any]) -> Any:
 @functools.lru_cache(maxsize=32)
 def _read_portable(kind: str, text: str) -> Any:
     # Values are immutable, so tasks on one worker share them and their compiled samplers.
-    if kind == "sketch":
-        from ..spec import load
+    from ..loading import load
 
-        return load(text)
-    from ..inputs.file import load_inputset_text
-
-    return load_inputset_text(text)
+    return load(text)

@@ -79,12 +79,3 @@ __all__ = [
     "spec_to_kwargs",
 ]
 
-
-def __getattr__(name: str) -> object:
-    # Transitional: cdfsketch/__init__.py, cli.py and report.py still import load and
-    # validate_spec from here; they move to cdfsketch.loading, then this function goes.
-    if name in ("load", "validate_spec"):
-        from .. import loading
-
-        return getattr(loading, name)
-    raise AttributeError(f"module {__name__!r} has no attribute {name!r}")

@@ -328,14 +328,17 @@ def test_progress_callable(positive):
 def test_to_sketch(positive):
     cand = fit_family("gamma", positive)
     s = cand.to_sketch(knots=15, name="repair time")
-    assert isinstance(s, Sketch) and len(s) == 15
+    assert isinstance(s, Sketch) and len(s) >= 15  # refined until within tolerance
     assert s.provenance["method"] == "from candidate fit gamma"
     assert s.provenance["extra"]["params"] == cand.params
     assert np.allclose(cand.cdf(s.x[1:]), s.p[1:], atol=1e-9)
     assert s.x[0] == 0.0 and s.p[0] == 0.0  # support starts at 0 (loc fixed)
     assert s.to_spec()["provenance"]["method"] == "from candidate fit gamma"
-    lin = fit_family("normal", positive).to_sketch(knots=5, interpolation="linear")
-    assert lin.p.tolist() == pytest.approx([0.01, 0.255, 0.5, 0.745, 0.99])
+    normal = fit_family("normal", positive)
+    lin = normal.to_sketch(knots=5, interpolation="linear")
+    grid = np.linspace(*normal.ppf([0.02, 0.98]), 2001)
+    worst = np.max(np.abs(lin.cdf(grid) - normal.cdf(grid)))
+    assert worst <= 1e-3  # reknot's default tolerance
     kde_sketch = fit_kde(positive).to_sketch()
     assert kde_sketch.provenance["method"] == "from candidate fit kde (scott)"
 
@@ -413,7 +416,7 @@ def test_family_and_mixture_bad_inputs():
     with pytest.raises(InputError, match=r"bandwidth must be one of 'scott', 'silverman'"):
         fit_kde([1.0, 2.0], bandwidth="isj")
     c = fit_family("normal", [1.0, 2.0, 4.0])
-    with pytest.raises(InputError, match=r"knots must be an integer ≥ 2; got 1"):
+    with pytest.raises(InputError, match=r"knots must be an integer ≥ 3; got 1"):
         c.to_sketch(knots=1)
     with pytest.raises(InputError, match=r"tail_mass must be a finite number in \(0, 0.5\)"):
         c.to_sketch(tail_mass=0.7)
