@@ -26,32 +26,13 @@ from .spec import (
     FORMAT,
     check_against_schema,
     check_spec,
-    check_stored_scales,
     read_json,
-    spec_to_kwargs,
 )
 
 if TYPE_CHECKING:
     from .inputs import InputSet
 
 __all__ = ["load", "validate_spec"]
-
-
-def _sketch(spec: Mapping[str, Any]) -> Sketch:
-    """Build the sketch of a checked spec; its CDF rules reported as a SpecError."""
-    try:
-        sketch = Sketch(**spec_to_kwargs(spec))
-    except (ValueError, TypeError) as exc:
-        field = getattr(exc, "field", None)
-        where = f"knots.{field}" if field in ("x", "p") else (field or "knots")
-        raise SpecError(
-            f"The spec's knots or tails must describe a valid CDF; {exc}",
-            field=where,
-            index=getattr(exc, "index", None),
-            found=getattr(exc, "found", None),
-        ) from None
-    check_stored_scales(spec, sketch.tail_scales)
-    return sketch
 
 
 def _is_inputset(data: Mapping[str, Any]) -> bool:
@@ -121,7 +102,7 @@ def load(obj: Any) -> Sketch | InputSet:
     data, base = read_json(obj)
     if _is_inputset(data):
         return _inputset(data, base)
-    return _sketch(check_spec(data))
+    return Sketch.from_spec(data)
 
 
 def validate_spec(obj: Any) -> None:
@@ -144,6 +125,6 @@ def validate_spec(obj: Any) -> None:
         _inputset(data, base)  # the loader's rules first (sizes before anything slow)
         check_against_schema(data, "inputs")
         return
-    spec = check_spec(data)
+    spec = check_spec(data)  # sizes and fields first: nothing slow on a bad file
     check_against_schema(spec, "spec")
-    _sketch(spec)
+    Sketch.from_spec(spec)

@@ -22,6 +22,7 @@ from ._limits import MAX_NAME_CHARS, MAX_UNITS_CHARS
 from ._pieces import INTERPOLATIONS
 from ._validate import (
     KnotError,
+    SpecError,
     choice,
     fail,
     integer,
@@ -461,6 +462,38 @@ class Sketch(PiecewiseDistribution):
         from .scipy_adapter import FrozenSketch
 
         return FrozenSketch(self)
+
+    @classmethod
+    def from_spec(cls, spec: Mapping[str, Any]) -> Sketch:
+        """The sketch a parsed single-input spec describes (every loader rule applies).
+
+        Files and text go through :func:`cdfsketch.load`; this takes the JSON
+        object itself. Anything wrong is a :class:`~cdfsketch.SpecError`
+        naming the field.
+
+        Examples
+        --------
+        >>> s = Sketch([0, 1, 3], [0, 0.5, 1], name="delay")
+        >>> t = Sketch.from_spec(s.to_spec())
+        >>> t.name, t.x.tolist() == s.x.tolist(), t.p.tolist() == s.p.tolist()
+        ('delay', True, True)
+        """
+        from .spec import check_spec, check_stored_scales, spec_to_kwargs
+
+        checked = check_spec(spec)
+        try:
+            sketch = cls(**spec_to_kwargs(checked))
+        except ValueError as exc:
+            field = getattr(exc, "field", None)
+            where = f"knots.{field}" if field in ("x", "p") else (field or "knots")
+            raise SpecError(
+                f"The spec's knots or tails must describe a valid CDF; {exc}",
+                field=where,
+                index=getattr(exc, "index", None),
+                found=getattr(exc, "found", None),
+            ) from None
+        check_stored_scales(checked, sketch.tail_scales)
+        return sketch
 
 
 class _PlainProvenance:

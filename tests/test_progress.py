@@ -10,7 +10,7 @@ import pytest
 
 from cdfsketch import Sketch, _progress
 from cdfsketch.fit import compare, fit_candidates
-from cdfsketch.report import Review
+from cdfsketch.review import Review
 
 
 @pytest.fixture

@@ -17,7 +17,7 @@ def readme_commands() -> list[str]:
 def test_readme_gives_two_setup_commands():
     commands = readme_commands()
     assert len(commands) == 2
-    assert "notebooks/01_pump_repair_times.ipynb" in commands[0]
+    assert commands[0].endswith("cdfsketch demo")
     assert commands[1].endswith("python -m pytest")
 
 
@@ -42,3 +42,24 @@ def test_demo_data_file_is_what_the_seeded_script_writes():
     committed = (ROOT / "notebooks" / "data" / "pump_repair_hours.csv").read_text()
     assert committed == make_demo_data.csv_text()
     assert "INVENTED DATA" in committed
+
+
+def test_every_dotted_name_the_readme_mentions_resolves():
+    # issue 11: `cdfsketch.fit.fit_candidates(data)` must work right after `import cdfsketch`
+    import importlib
+
+    text = (ROOT / "README.md").read_text()
+    names = sorted(set(re.findall(r"`(cdfsketch(?:\.[A-Za-z_]\w*)+)", text)))
+    assert "cdfsketch.fit.fit_candidates" in names and "cdfsketch.consequences" in names
+    for dotted in names:
+        obj = importlib.import_module("cdfsketch")
+        for part in dotted.split(".")[1:]:
+            obj = getattr(obj, part)  # AttributeError names the broken one
+
+
+def test_demo_files_named_in_the_readme_are_the_ones_it_writes():
+    from cdfsketch.demo import FILES
+
+    text = (ROOT / "README.md").read_text()
+    for name in FILES:
+        assert f"cdfsketch-demo/{name}" in text

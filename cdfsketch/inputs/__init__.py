@@ -20,15 +20,9 @@ from __future__ import annotations
 from .dependence import nearest_correlation, nearest_rank_corr, spearman
 from .designs import DESIGNS, WINDOW
 from .draws import Draws, RankCorrRow
-from .file import (
-    INPUTSET_FORMAT,
-    INPUTSET_VERSION,
-    inputset_from_dict,
-    inputset_schema,
-    read_inputset,
-    spec_digest,
-)
+from .file import inputset_from_dict, read_inputset
 from .inputset import DEPENDENCE, MAX_INPUTS, InputSet
+from .writing import INPUTSET_FORMAT, INPUTSET_VERSION, inputset_schema, spec_digest
 
 __all__ = [
     "DEPENDENCE",

@@ -23,7 +23,7 @@ import numpy as np
 
 from .._numfmt import significant
 from .._version import __version__
-from .file import spec_digest
+from .writing import spec_digest
 
 if TYPE_CHECKING:
     from ..sketch import Sketch

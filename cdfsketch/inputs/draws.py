@@ -7,6 +7,7 @@ from typing import Any, NamedTuple
 
 import numpy as np
 
+from .._extras import need
 from .dependence import spearman
 
 __all__ = ["Draws", "RankCorrRow"]
@@ -82,13 +83,7 @@ class Draws(Mapping):
         >>> Draws({"a": np.arange(2.0)}).to_pandas().columns.tolist()
         ['a']
         """
-        try:
-            import pandas as pd
-        except ImportError as exc:
-            raise ImportError(
-                "Draws.to_pandas() needs pandas, which is not installed. Install it with: "
-                "pip install pandas"
-            ) from exc
+        pd = need("all", "pandas")
         return pd.DataFrame(self._data)
 
     def spearman(self) -> tuple[tuple[str, ...], np.ndarray]:

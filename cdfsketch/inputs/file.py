@@ -17,6 +17,7 @@ error is a :class:`~cdfsketch._validate.SpecError` naming the field.
 Examples
 --------
 >>> from cdfsketch import Sketch
+>>> import json
 >>> from cdfsketch.inputs import InputSet
 >>> ins = InputSet({"a": Sketch([0, 1], [0, 1])}, rank_corr=None, name="toy")
 >>> again = inputset_from_dict(json.loads(ins.to_json()), base_dir=None)
@@ -26,106 +27,33 @@ True
 
 from __future__ import annotations
 
-import hashlib
-import json
-import os
 from collections.abc import Mapping
 from pathlib import Path, PurePosixPath, PureWindowsPath
-from typing import TYPE_CHECKING, Any
+from typing import Any
 
-from .._files import write_text
-from .._limits import MAX_SPEC_BYTES
 from .._validate import InputError, SpecError, fail, quote
+from ..sketch import Sketch
+from .inputset import MAX_INPUTS, InputSet
+from .writing import INPUTSET_FORMAT, INPUTSET_VERSION
 
-if TYPE_CHECKING:
-    from ..sketch import Sketch
-    from .inputset import InputSet
+__all__ = ["inputset_from_dict", "read_inputset"]
 
-__all__ = [
-    "INPUTSET_FORMAT",
-    "INPUTSET_VERSION",
-    "dump_inputset",
-    "inputset_from_dict",
-    "inputset_schema",
-    "inputset_to_dict",
-    "read_inputset",
-    "spec_digest",
-]
-
-INPUTSET_FORMAT = "cdfsketch-inputs"
-INPUTSET_VERSION = 1
 _TOP = ("format", "version", "name", "inputs", "rank_corr", "provenance")
-SCHEMA_PATH = Path(__file__).parents[1] / "spec" / "schemas" / "inputs-v1.schema.json"
-
-
-def inputset_schema() -> dict[str, Any]:
-    """The JSON Schema (draft 2020-12) of the input-set file, version 1.
-
-    Examples
-    --------
-    >>> inputset_schema()["properties"]["format"]
-    {'const': 'cdfsketch-inputs'}
-    """
-    return json.loads(SCHEMA_PATH.read_text(encoding="utf-8"))
-
-
-# ---------------------------------------------------------------- the one door to single specs
 
 
 def _sketch_from_spec(d: Mapping[str, Any]) -> Sketch:
     """Build one embedded single-input spec (the single-spec reader's rules apply)."""
-    from ..spec import spec_to_sketch
-
-    return spec_to_sketch(d)
-
-
-def _sketch_to_spec(sketch: Sketch) -> dict[str, Any]:
-    return sketch.to_spec()
+    return Sketch.from_spec(d)
 
 
 def _load_sketch_file(path: Path) -> Any:
-    """Load one single-input spec file."""
-    from ..spec import load
+    """Load one single-input spec file (an input set inside an input set is refused)."""
+    from ..spec import read_json
 
-    return load(path)
-
-
-def spec_digest(sketch: Sketch) -> str:
-    """SHA-256 of a sketch's spec as canonical JSON (sorted keys, no spaces).
-
-    Examples
-    --------
-    >>> from cdfsketch import Sketch
-    >>> len(spec_digest(Sketch([0, 1], [0, 1])))
-    64
-    """
-    body = json.dumps(_sketch_to_spec(sketch), sort_keys=True, separators=(",", ":"))
-    return hashlib.sha256(body.encode("utf-8")).hexdigest()
-
-
-# ---------------------------------------------------------------- writing
-
-
-def inputset_to_dict(inputs: InputSet) -> dict[str, Any]:
-    """The file's content for ``inputs``, sketches inline."""
-    from .._frozen import thaw
-
-    return {
-        "format": INPUTSET_FORMAT,
-        "version": INPUTSET_VERSION,
-        "name": inputs.name,
-        "inputs": [{"name": n, "spec": _sketch_to_spec(inputs.sketches[n])} for n in inputs.names],
-        "rank_corr": [{"a": a, "b": b, "rank_corr": v} for (a, b), v in inputs.rank_corr.items()],
-        "provenance": thaw(inputs.provenance),
-    }
-
-
-def dump_inputset(inputs: InputSet, path: Any = None) -> str:
-    """JSON text of ``inputs``; written atomically to ``path`` when given."""
-    text = json.dumps(inputset_to_dict(inputs), indent=2, allow_nan=False, ensure_ascii=False)
-    if path is not None:
-        write_text(path, text + "\n")
-    return text
+    data, _folder = read_json(path)
+    if data.get("format") == INPUTSET_FORMAT:
+        return data  # the caller names the field and refuses it
+    return Sketch.from_spec(data)
 
 
 # ---------------------------------------------------------------- reading
@@ -135,56 +63,20 @@ def _err(must: str, found: str, remedy: str, field: str, value: Any = None) -> S
     return fail(must, found, remedy, error=SpecError, field=field, value=value)  # type: ignore[return-value]
 
 
-def _reject_constant(name: str) -> Any:
-    raise _err(
-        "An input-set file must be plain JSON",
-        name,
-        "RFC 8259 allows no NaN or Infinity; leave such values out.",
-        "file",
-    )
-
-
 def read_inputset(source: Any) -> InputSet:
-    """An :class:`InputSet` from a file path (relative paths inside it resolved there).
+    """An :class:`InputSet` from a file path or JSON text, read as :func:`cdfsketch.load` reads.
 
     Examples
     --------
     >>> read_inputset("no-such-file.json")
     Traceback (most recent call last):
     ...
-    cdfsketch._validate.SpecError: The input-set file must exist; got 'no-such-file.json'...
+    cdfsketch._validate.SpecError: A spec path must name an existing file; got ...
     """
-    path = Path(source)
-    if not path.is_file():
-        raise _err(
-            "The input-set file must exist",
-            quote(str(path)),
-            "Check the path.",
-            "path",
-            source,
-        )
-    size = path.stat().st_size
-    if size > MAX_SPEC_BYTES:
-        raise _err(
-            f"An input-set file must be at most {MAX_SPEC_BYTES:,} bytes",
-            f"{size:,}",
-            "Keep the specs in their own files and refer to them by path.",
-            "path",
-        )
-    try:
-        data = json.loads(path.read_text(encoding="utf-8"), parse_constant=_reject_constant)
-    except json.JSONDecodeError as exc:
-        raise _err(
-            "The input-set file must be valid JSON",
-            f"{exc.msg} at line {exc.lineno}, column {exc.colno}",
-            "Fix the file, or write it again with InputSet.to_json().",
-            "file",
-        ) from None
-    except UnicodeDecodeError:
-        raise _err(
-            "The input-set file must be UTF-8 text", "other bytes", "Save it as UTF-8.", "file"
-        ) from None
-    return inputset_from_dict(data, base_dir=path.parent)
+    from ..spec import read_json
+
+    data, folder = read_json(source)
+    return inputset_from_dict(data, base_dir=folder)
 
 
 def _member_path(raw: Any, base_dir: Path | None, field: str) -> Path:
@@ -272,9 +164,6 @@ def inputset_from_dict(d: Any, *, base_dir: Path | None) -> InputSet:
     ...
     cdfsketch._validate.SpecError: version must be 1 (this cdfsketch reads version 1); got 2...
     """
-    from ..sketch import Sketch
-    from .inputset import MAX_INPUTS, InputSet
-
     _keys(d, _TOP, ("format", "version"), "the input-set file")
     if d["format"] != INPUTSET_FORMAT:
         raise _err(
@@ -376,24 +265,3 @@ def inputset_from_dict(d: Any, *, base_dir: Path | None) -> InputSet:
         raise
     except InputError as exc:
         raise SpecError(str(exc), field=exc.field, index=exc.index, found=exc.found) from None
-
-
-def load_inputset_text(text: str, *, base_dir: Path | None = None) -> InputSet:
-    """An :class:`InputSet` from JSON text (``path`` entries need ``base_dir``)."""
-    try:
-        data = json.loads(text, parse_constant=_reject_constant)
-    except json.JSONDecodeError as exc:
-        raise _err(
-            "An input set must be valid JSON",
-            f"{exc.msg} at line {exc.lineno}, column {exc.colno}",
-            "Fix the text.",
-            "text",
-        ) from None
-    return inputset_from_dict(data, base_dir=base_dir)
-
-
-def is_path_like(obj: Any) -> bool:
-    """Whether ``obj`` names a file (not JSON text)."""
-    return isinstance(obj, os.PathLike) or (
-        isinstance(obj, str) and obj.lstrip()[:1] not in ("{", "[")
-    )

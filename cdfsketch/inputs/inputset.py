@@ -37,6 +37,7 @@ from ..sketch import Sketch
 from .dependence import check_rank_corr, copula_correlation, gaussian_copula, iman_conover
 from .designs import DESIGNS, SOBOL_MAX, WINDOW, clip_open, design_uniforms
 from .draws import Draws
+from .writing import dump_inputset, inputset_to_dict
 
 if TYPE_CHECKING:
     from pathlib import Path
@@ -452,8 +453,6 @@ class InputSet:
         >>> InputSet({"a": Sketch([0, 1], [0, 1])}).to_dict()["format"]
         'cdfsketch-inputs'
         """
-        from .file import inputset_to_dict
-
         return inputset_to_dict(self)
 
     def to_json(self, path: str | Path | None = None) -> str:
@@ -465,8 +464,6 @@ class InputSet:
         >>> '"cdfsketch-inputs"' in text
         True
         """
-        from .file import dump_inputset
-
         return dump_inputset(self, path)
 
 

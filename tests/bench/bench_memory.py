@@ -7,7 +7,7 @@ fresh subprocess: it imports what the entry point needs, notes the peak RSS
 calls the entry point and reports ``(peak after - peak before) / data bytes``.
 The data themselves count once in that ratio.
 
-Run: ``python tests/bench/bench_memory.py [compare|editor|board|ecdf|fit] [n]``
+Run: ``python tests/bench/bench_memory.py [compare|editor|board|layers|ecdf|fit] [n]``
 (default: compare on 1e7). ``main(quick=True)`` measures ``compare`` on 1e5 (the
 smoke size).
 """
@@ -49,7 +49,20 @@ elif mode == "editor":
     run = lambda x: Editor(data=x)
 elif mode == "board":
     from cdfsketch import ReviewBoard, Sketch
-    run = lambda x: ReviewBoard([Sketch([0, 2, 5, 60], [0, 0.3, 0.8, 1], name="s")], data=x)
+    run = lambda x: ReviewBoard(x, [Sketch([0, 2, 5, 60], [0, 0.3, 0.8, 1], name="s")], rng=0,
+                                progress=False)
+elif mode == "layers":  # what the board and the page draw: ECDF, band, histogram, curves
+    from types import SimpleNamespace
+    from cdfsketch import Sketch
+    from cdfsketch.empirical import ECDF
+    from cdfsketch.review import Review
+    from cdfsketch.review.layers import curves, data_layers
+    cands = Review(None, [Sketch([0, 2, 5, 60], [0, 0.3, 0.8, 1], name="s")]).candidates
+    def run(x):
+        e = ECDF(x)
+        r = SimpleNamespace(candidates=cands, data=x, ecdf=e, level=0.95,
+                            data_range=(float(e.x[0]), float(e.x[-1])))
+        data_layers(r), curves(r)
 else:
     raise SystemExit(f"unknown mode {mode!r}")
 before = peak()

@@ -21,7 +21,7 @@ from typing import Any
 import pytest
 
 from ._chromium import CHROMIUM, FLAGS
-from .conftest import OVERRIDES, Lab, _free_port, _missing, _wait_kernel
+from .conftest import OVERRIDES, Page, _free_port, _missing, _wait_kernel
 
 #: Where screenshots go (outside the repository); skipped when its parent is missing.
 SHOTS = Path(os.environ.get("CDFSKETCH_SHOTS", "/work/shots/review"))
@@ -96,7 +96,7 @@ def _notebook(cells: list[str]) -> dict[str, Any]:
 
 
 @pytest.fixture(scope="module", name="review_lab")
-def review_lab_fixture(tmp_path_factory: pytest.TempPathFactory) -> Iterator[Lab]:
+def review_lab_fixture(tmp_path_factory: pytest.TempPathFactory) -> Iterator[Page]:
     """JupyterLab with the review-board notebook open and run (server and browser stopped)."""
     if not Path(CHROMIUM).exists():
         _missing(CHROMIUM)
@@ -136,7 +136,7 @@ def review_lab_fixture(tmp_path_factory: pytest.TempPathFactory) -> Iterator[Lab
             try:
                 page = ctx.new_page()
                 page.goto(f"{base}/lab/tree/review_probe.ipynb?token={token}")
-                lab = Lab(page, root)
+                lab = Page(page, root, "lab")
                 _wait_kernel(lab)
                 page.evaluate("() => window.jupyterapp.commands.execute('notebook:run-all-cells')")
                 page.wait_for_selector(".cdfsketch-review-cdf .curve .line", timeout=120_000)

@@ -204,7 +204,7 @@ def test_table_states_a_bound_that_holds(tmp_path):
 def test_every_argument_has_help():
     parser = _parser()
     subs = next(a for a in parser._actions if isinstance(a, argparse._SubParsersAction))
-    assert set(subs.choices) == {"describe", "check", "sample", "quantiles", "ppf", "table"}
+    assert set(subs.choices) == {"describe", "check", "sample", "quantiles", "ppf", "table", "demo"}
     for name, sub in subs.choices.items():
         assert sub.description, name
         for action in sub._actions:

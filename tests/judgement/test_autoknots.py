@@ -207,7 +207,7 @@ def test_knot_budget_on_large_samples_of_any_shape(kind):
     ("kwargs", "match"),
     [
         ({"interpolation": "cubic"}, "interpolation must be one of 'linear', 'pchip'"),
-        ({"level": 1.0}, "level must lie strictly between 0 and 1"),
+        ({"level": 1.0}, "level must be a finite number in \\(0, 1\\)"),
         ({"max_knots": 1}, "max_knots must be an integer ≥ 2"),
         ({"max_knots": 2.5}, "max_knots must be an integer ≥ 2"),
     ],

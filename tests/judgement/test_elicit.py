@@ -40,7 +40,8 @@ def test_from_quantiles_reproduces_every_stated_quantile(q, interpolation, optio
         assert float(s.cdf(x)) == p  # exactly
         assert float(s.ppf(p)) == pytest.approx(x, rel=1e-13, abs=1e-13)
     assert s.provenance["method"] == "from stated quantiles"
-    assert s.provenance["extra"]["stated_quantiles"] == sorted([p, float(x)] for p, x in q.items())
+    stated = s.provenance["extra"]["stated_quantiles"]  # frozen: pairs are tuples
+    assert stated == tuple(sorted((p, float(x)) for p, x in q.items()))
 
 
 def test_from_quantiles_bounds_and_tails():
@@ -63,7 +64,7 @@ def test_from_quantiles_spec_round_trip():
         {0.05: 12, 0.5: 20, 0.95: 41}, name="cost", units="k$", author="A", rationale="why"
     )
     back = cdfsketch.load(s.to_json())
-    assert back.provenance["extra"]["stated_quantiles"] == [[0.05, 12.0], [0.5, 20.0], [0.95, 41.0]]
+    assert back.provenance["extra"]["stated_quantiles"] == ((0.05, 12.0), (0.5, 20.0), (0.95, 41.0))
     assert back.provenance["author"] == "A"
     assert back.name == "cost"
     assert np.array_equal(back.x, s.x)
@@ -194,7 +195,7 @@ def test_three_points_with_coverage_solves_the_ends(shape, coverage):
     assert ref.cdf(high) == pytest.approx(ph, abs=1e-9)
     grid = np.linspace(a, b, 4001)
     assert np.max(np.abs(s.cdf(grid) - ref.cdf(grid))) <= 1e-3 * 1.2
-    assert s.provenance["extra"]["stated_quantiles"] == [[pl, low], [ph, high]]
+    assert s.provenance["extra"]["stated_quantiles"] == ((pl, low), (ph, high))
 
 
 def test_three_points_summary_warns_about_solved_tails():
@@ -354,7 +355,9 @@ def test_summary_warns_on_default_tails_and_shows_what_holds_them():
     assert out2.warnings == ()
     assert [b.stated for b in out2.beyond_stated] == [True, True]
     plain = summary(Sketch([0, 1, 2], [0.1, 0.5, 1]))
-    assert len(plain.warnings) == 1 and "lower tail holds 10 %" in plain.warnings[0]
+    # the default lower tail, and the support ending at the last knot (no upper tail)
+    assert len(plain.warnings) == 2 and "lower tail holds 10 %" in plain.warnings[0]
+    assert "support ends at 2" in plain.warnings[1]
 
 
 def test_summary_atoms_and_bad_probabilities():

@@ -13,7 +13,7 @@ from scipy import stats
 import cdfsketch
 from cdfsketch import BoundedTail, ExponentialTail, Sketch
 from cdfsketch.elicit import from_quantiles
-from cdfsketch.widgets import palette
+from cdfsketch.review import palette
 from cdfsketch.widgets._editor_state import GAP_P, GAP_X, TAIL_MIN
 from cdfsketch.widgets._editor_table import DEFAULT_TAIL_MASS
 from cdfsketch.widgets.editor import Editor
