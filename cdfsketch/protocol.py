@@ -433,7 +433,7 @@ def as_model(obj: Any, *, name: str | None = None, field: str = "model") -> Mode
     >>> from cdfsketch import Sketch
     >>> m = as_model(Sketch([0, 1, 1, 2], [0, 0.25, 0.5, 1], name="s"))
     >>> m.kind, m.atoms, m.breakpoints.tolist()
-    ('sketch', ((1.0, 0.25),), [0.0, 1.0, 2.0])
+    ('sketch', (Atom(x=1.0, mass=0.25),), [0.0, 1.0, 2.0])
     """
     if isinstance(obj, Model):
         return obj if name is None or name == obj.name else obj.renamed(name)

@@ -173,7 +173,10 @@ def test_load_and_sample_import_nothing_heavy():
 
 def test_modules_stay_small():
     # one person can hold a module in mind; the few exceptions say why
-    reasons = {}
+    reasons = {
+        "cli.py": "one command line: the argparse help of every argument of seven subcommands "
+        "(about 170 lines of user-facing text) beside the commands it documents",
+    }
     long = {
         str(p.relative_to(PKG)): n
         for p in PKG.rglob("*.py")

@@ -78,4 +78,3 @@ __all__ = [
     "source",
     "spec_to_kwargs",
 ]
-

@@ -8,12 +8,11 @@ import math
 import numpy as np
 import pytest
 
-import cdfsketch
 from cdfsketch import Sketch
 from cdfsketch._validate import InputError
+from cdfsketch.inputs import InputSet
 from cdfsketch.outcomes import Consequences, ModelError, consequences
 from cdfsketch.outcomes.verdict import judge, overall, sentence
-from cdfsketch.inputs import InputSet
 
 A = Sketch([1, 3, 8], [0, 0.6, 1], name="now")
 B = Sketch([1, 4, 10], [0, 0.6, 1], name="longer")

@@ -8,8 +8,8 @@ import numpy as np
 import pytest
 
 from cdfsketch import BoundedTail, ExponentialTail, Sketch
-from cdfsketch.outcomes import consequences
 from cdfsketch.inputs import InputSet
+from cdfsketch.outcomes import consequences
 
 # Invented shapes with no meaning: a right-skewed one with an exponential tail,
 # a pchip one, a plain linear one.

@@ -14,8 +14,8 @@ import pytest
 from cdfsketch import ExponentialTail, Sketch
 from cdfsketch._extras import MissingExtraError
 from cdfsketch._streams import root_seed
-from cdfsketch.outcomes import ModelError, consequences
 from cdfsketch.inputs import InputSet
+from cdfsketch.outcomes import ModelError, consequences
 from cdfsketch.scale import WINDOW, inputset_to_dask, sketch_to_dask, window_uniforms
 
 pytest.importorskip("dask.array")
