@@ -91,6 +91,9 @@ def write_bytes(path: Any, data: bytes) -> Path:
     try:
         with os.fdopen(fd, "wb") as fh:
             fh.write(data)
+        umask = os.umask(0)
+        os.umask(umask)
+        os.chmod(tmp, 0o666 & ~umask)  # as open() would make it, not mkstemp's 0600
         os.replace(tmp, p)
     except BaseException as exc:
         with _quiet():

@@ -16,6 +16,7 @@ from __future__ import annotations
 
 __all__ = [
     "MAX_ABS_X",
+    "MAX_INPUTS",
     "MAX_KNOTS",
     "MAX_NAME_CHARS",
     "MAX_SCALE",
@@ -39,5 +40,7 @@ MAX_NAME_CHARS = 500
 MAX_UNITS_CHARS = 100
 #: Longest free text in provenance (author, rationale, notes, …).
 MAX_TEXT_CHARS = 100_000
+#: Most inputs in one input set.
+MAX_INPUTS = 10_000
 #: Largest spec file or text read.
 MAX_SPEC_BYTES = 10_000_000

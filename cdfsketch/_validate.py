@@ -209,7 +209,10 @@ def number(
             field=field,
             value=value,
         )
-    v = float(value)
+    try:
+        v = float(value)
+    except OverflowError:  # an int beyond the float range, e.g. 10**400
+        v = math.copysign(math.inf, value)
     if math.isnan(v) or (finite and math.isinf(v)):
         raise fail(
             rule,

@@ -223,6 +223,20 @@ class Sketch(PiecewiseDistribution):
             return NotImplemented
         return self._key() == other._key() and self._provenance == other._provenance
 
+    def __reduce__(self) -> tuple[Any, ...]:
+        """Pickle by the constructor's arguments (for worker processes), rebuilt and checked."""
+        return (_rebuild, (self._x, self._p, self._constructor_args()))
+
+    def _constructor_args(self) -> dict[str, Any]:
+        return {
+            "interpolation": self._interpolation,
+            "lower_tail": self._tails[0] if self._tails_given[0] else None,
+            "upper_tail": self._tails[1] if self._tails_given[1] else None,
+            "name": self._name,
+            "units": self._units,
+            "provenance": thaw(self._provenance),
+        }
+
     def __hash__(self) -> int:
         return hash(self._key())
 
@@ -304,16 +318,7 @@ class Sketch(PiecewiseDistribution):
                 f"replace() takes only {', '.join(allowed)}; got {', '.join(unknown)}. "
                 "Check the spelling."
             )
-        args: dict[str, Any] = {
-            "x": self._x,
-            "p": self._p,
-            "interpolation": self._interpolation,
-            "lower_tail": self._tails[0] if self._tails_given[0] else None,
-            "upper_tail": self._tails[1] if self._tails_given[1] else None,
-            "name": self._name,
-            "units": self._units,
-            "provenance": thaw(self._provenance),
-        }
+        args: dict[str, Any] = {"x": self._x, "p": self._p, **self._constructor_args()}
         args.update(changes)
         x, p = args.pop("x"), args.pop("p")
         return Sketch(x, p, **args)
@@ -436,7 +441,7 @@ class Sketch(PiecewiseDistribution):
         """
         from .spec import sketch_to_spec
 
-        return sketch_to_spec(_PlainProvenance(self), **provenance)
+        return sketch_to_spec(self, **provenance)
 
     def to_json(self, path: Any = None, **provenance: Any) -> str:
         """The spec as JSON text; written to ``path`` when given.
@@ -496,21 +501,6 @@ class Sketch(PiecewiseDistribution):
         return sketch
 
 
-class _PlainProvenance:
-    """The sketch as the spec writer reads it, with its provenance as plain dicts and lists.
-
-    The writer checks the record with the same rules as a loaded file (lists,
-    not tuples); the sketch keeps its frozen record.
-    """
-
-    __slots__ = ("_sketch",)
-
-    def __init__(self, sketch: Sketch) -> None:
-        self._sketch = sketch
-
-    def __getattr__(self, key: str) -> Any:
-        return getattr(self._sketch, key)
-
-    @property
-    def provenance(self) -> dict[str, Any]:
-        return thaw(self._sketch.provenance)
+def _rebuild(x: np.ndarray, p: np.ndarray, options: dict[str, Any]) -> Sketch:
+    """Unpickle a :class:`Sketch` (see ``Sketch.__reduce__``)."""
+    return Sketch(x, p, **options)

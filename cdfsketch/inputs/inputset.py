@@ -30,7 +30,7 @@ from typing import TYPE_CHECKING, Any
 import numpy as np
 
 from .._frozen import FrozenDict, freeze, thaw
-from .._limits import MAX_NAME_CHARS, MAX_SPEC_BYTES
+from .._limits import MAX_INPUTS, MAX_NAME_CHARS, MAX_SPEC_BYTES
 from .._streams import root_seed
 from .._validate import choice, fail, integer, mapping, quote, text
 from ..sketch import Sketch
@@ -45,8 +45,6 @@ if TYPE_CHECKING:
 __all__ = ["DEPENDENCE", "MAX_INPUTS", "InputSet"]
 
 DEPENDENCE = ("iman-conover", "gaussian-copula", "independent")
-#: Most inputs in one set.
-MAX_INPUTS = 10_000
 
 
 class InputSet:

@@ -8,23 +8,12 @@ the notebook differs: it builds a ReviewBoard on invented repair times.
 from __future__ import annotations
 
 import json
-import os
-import shutil
-import subprocess
-import sys
-import time
-import urllib.request
 from collections.abc import Iterator
-from pathlib import Path
 from typing import Any
 
 import pytest
 
-from ._chromium import CHROMIUM, FLAGS
-from .conftest import OVERRIDES, Page, _free_port, _missing, _wait_kernel
-
-#: Where screenshots go (outside the repository); skipped when its parent is missing.
-SHOTS = Path(os.environ.get("CDFSKETCH_SHOTS", "/work/shots/review"))
+from .conftest import SHOTS, Page, Server, _wait_kernel
 
 BOARD_CELLS = [
     "import numpy as np\n"
@@ -68,10 +57,9 @@ def overlaps(page: Any, plots: str, controls: str) -> list[str]:
 
 
 def shot(page: Any, name: str) -> None:
-    """Save a screenshot under :data:`SHOTS` (not in the repository), if its folder can exist."""
-    if SHOTS.parent.exists():
-        SHOTS.mkdir(parents=True, exist_ok=True)
-        page.screenshot(path=str(SHOTS / name))
+    """Save a screenshot as ``review-<name>`` in the suite's screenshot folder."""
+    SHOTS.mkdir(parents=True, exist_ok=True)
+    page.screenshot(path=str(SHOTS / f"review-{name}"))
 
 
 def _notebook(cells: list[str]) -> dict[str, Any]:
@@ -96,66 +84,26 @@ def _notebook(cells: list[str]) -> dict[str, Any]:
 
 
 @pytest.fixture(scope="module", name="review_lab")
-def review_lab_fixture(tmp_path_factory: pytest.TempPathFactory) -> Iterator[Page]:
-    """JupyterLab with the review-board notebook open and run (server and browser stopped)."""
-    if not Path(CHROMIUM).exists():
-        _missing(CHROMIUM)
+def review_lab_fixture(server: Server) -> Iterator[Page]:
+    """The review-board notebook open and run in JupyterLab on the suite's server."""
+    folder = server.root / "review"
+    folder.mkdir()
+    (folder / "review_probe.ipynb").write_text(json.dumps(_notebook(BOARD_CELLS)), encoding="utf-8")
+    server.delete_sessions()
+    page = server.context.new_page()
+    page.set_viewport_size({"width": 1400, "height": 900})
     try:
-        from playwright.sync_api import sync_playwright
-    except ImportError:
-        _missing("the playwright Python package")
-    root = tmp_path_factory.mktemp("review-lab-root")
-    (root / "review_probe.ipynb").write_text(json.dumps(_notebook(BOARD_CELLS)), encoding="utf-8")
-    settings = tmp_path_factory.mktemp("review-lab-settings")
-    (settings / "overrides.json").write_text(json.dumps(OVERRIDES), encoding="utf-8")
-    port, token = _free_port(), os.urandom(12).hex()
-    cmd = [
-        sys.executable, "-m", "jupyterlab", "--no-browser", "--ip=127.0.0.1", f"--port={port}",
-        "--port-retries=0", "--allow-root", f"--IdentityProvider.token={token}",
-        f"--ServerApp.root_dir={root}", "--LabApp.expose_app_in_browser=True",
-        f"--LabApp.app_settings_dir={settings}", "--LabApp.news_url=None",
-    ]  # fmt: skip
-    log = open(root.parent / f"review-lab-{port}.log", "wb")  # closed in the finally below
-    server = subprocess.Popen(cmd, stdout=log, stderr=subprocess.STDOUT, cwd=root)
-    base = f"http://127.0.0.1:{port}"
-    try:
-        for _ in range(200):
-            try:
-                urllib.request.urlopen(f"{base}/api/status?token={token}", timeout=1)
-                break
-            except OSError:
-                if server.poll() is not None:
-                    raise RuntimeError("jupyter lab exited; see the log") from None
-                time.sleep(0.1)
-        profile = tmp_path_factory.mktemp("review-chromium-profile")
-        with sync_playwright() as pw:
-            ctx = pw.chromium.launch_persistent_context(
-                str(profile), executable_path=CHROMIUM, headless=True, args=FLAGS,
-                viewport={"width": 1400, "height": 900},
-            )  # fmt: skip
-            try:
-                page = ctx.new_page()
-                page.goto(f"{base}/lab/tree/review_probe.ipynb?token={token}")
-                lab = Page(page, root, "lab")
-                _wait_kernel(lab)
-                page.evaluate("() => window.jupyterapp.commands.execute('notebook:run-all-cells')")
-                page.wait_for_selector(".cdfsketch-review-cdf .curve .line", timeout=120_000)
-                page.screenshot(path=str(root.parent / "review-lab-first.png"))
-                # close the left sidebar: the board gets the width a reviewer would give it
-                page.evaluate(
-                    "() => { const s = window.jupyterapp.shell; if (!s.leftCollapsed) "
-                    "s.collapseLeft(); }"
-                )
-                page.wait_for_timeout(500)
-                yield lab
-            finally:
-                ctx.close()
+        page.goto(f"{server.base}/lab/tree/review/review_probe.ipynb?token={server.token}")
+        lab = Page(page, folder, "lab")
+        _wait_kernel(lab)
+        page.evaluate("() => window.jupyterapp.commands.execute('notebook:run-all-cells')")
+        page.wait_for_selector(".cdfsketch-review-cdf .curve .line", timeout=120_000)
+        # close the left sidebar: the board gets the width a reviewer would give it
+        page.evaluate(
+            "() => { const s = window.jupyterapp.shell; if (!s.leftCollapsed) s.collapseLeft(); }"
+        )
+        page.wait_for_timeout(500)
+        yield lab
     finally:
-        server.terminate()
-        try:
-            server.wait(timeout=10)
-        except subprocess.TimeoutExpired:
-            server.kill()
-            server.wait()
-        log.close()
-        shutil.rmtree(root / ".ipynb_checkpoints", ignore_errors=True)
+        page.close()
+        server.delete_sessions()

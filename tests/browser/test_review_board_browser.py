@@ -2,7 +2,7 @@
 meets them at 1400×900 and 1000×700 (issue 13, items 13–15).
 
 The notebook (``_review_helpers.BOARD_CELLS``) builds a board on invented repair times.
-Screenshots go to /work/shots/review (outside the repository).
+Screenshots go to $CDFSKETCH_SHOTS or test-artifacts/ (see conftest).
 """
 
 from __future__ import annotations

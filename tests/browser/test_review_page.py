@@ -250,7 +250,7 @@ def test_hover_reads_python_values(opened: Opened, review: Review, fraction: flo
     # (reference: scipy.stats.norm with the ML parameters, mean and population sd)
     i = review.names.index("normal")
     ref = norm(review.data.mean(), review.data.std()).cdf(x)
-    stated = review.candidate("normal").sketch.provenance["extra"]["max_abs_cdf_error_vs_fit"]
+    stated = review.candidate("normal").sketch.provenance["extra"]["max_abs_cdf_error"]
     shown = float(page.locator(f'#readout tr[data-candidate="{i}"] td.p').text_content())
     assert abs(shown - ref) <= stated + 0.5e-4
     opened.check_clean()
@@ -357,7 +357,7 @@ _CONTROLS = "input, button, select, textarea, a, label, summary, #readout, #togg
 @pytest.mark.parametrize("size", [(1400, 900), (1000, 700)])
 def test_layout_at_screen_sizes(context, page_file: Path, size: tuple[int, int]) -> None:
     # issue 13: no control over a plot; the comparison fits 1000 px without scrolling; the
-    # read-out is on screen next to the plots; shots go to /work/shots/review (not the repo)
+    # read-out is on screen next to the plots; shots go to the suite's screenshot folder
     o = Opened(context, page_file)
     try:
         page = o.page

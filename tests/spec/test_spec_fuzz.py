@@ -98,11 +98,6 @@ CLOSE_KNOTS = {
 }
 
 
-@pytest.mark.xfail(
-    reason="the sampler's cubic tables do not yet handle knots a few ulps apart (core)",
-    raises=RuntimeError,
-    strict=False,
-)
 def test_an_accepted_spec_with_knots_a_few_ulps_apart_samples():
     from cdfsketch.loading import load
 
