@@ -32,6 +32,7 @@ from typing import Any
 
 import numpy as np
 
+from ._extras import need
 from ._numfmt import significant
 
 __all__ = ["FILES", "SCENARIO", "SEED", "repair_hours", "run"]
@@ -95,6 +96,7 @@ def run(out: Any = "cdfsketch-demo", *, echo: Callable[[str], Any] = print) -> l
     from .review import Review, save_html
     from .tails import BoundedTail, ExponentialTail
 
+    need("fit", "scipy")  # before anything is shown or written
     folder = Path(out)
     folder.mkdir(parents=True, exist_ok=True)
     spec_path, page_path = (check_output_path(folder / f) for f in FILES)

@@ -183,3 +183,16 @@ def test_modules_stay_small():
         if (n := len(p.read_text(encoding="utf-8").splitlines())) > 520
     }
     assert set(long) <= set(reasons), f"modules over ~500 lines: {long}"
+
+
+def test_a_missing_extra_is_one_error_naming_it(monkeypatch, tmp_path):
+    import cdfsketch.widgets
+    from cdfsketch import demo
+
+    monkeypatch.setitem(sys.modules, "ipywidgets", None)  # as if not installed
+    with pytest.raises(ImportError, match=r"pip install 'cdfsketch\[notebook\]'"):
+        cdfsketch.widgets.Editor  # noqa: B018
+    monkeypatch.setitem(sys.modules, "scipy", None)
+    with pytest.raises(ImportError, match=r"pip install 'cdfsketch\[fit\]'"):
+        demo.run(tmp_path / "demo", echo=lambda line: None)
+    assert not (tmp_path / "demo").exists()  # nothing written before the check
