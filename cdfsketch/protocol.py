@@ -285,11 +285,7 @@ def _is_sketch(obj: Any) -> bool:
 def _sketch_model(s: Any, name: str | None) -> Model:
     lo, hi = s.support
     atoms = tuple(s.atoms)
-    bp = getattr(s, "breakpoints", None)
-    if bp is None:
-        # Until Sketch has its own ``breakpoints``: its knots and finite support ends
-        # (the density jumps or kinks only there; tails start at the outer knots).
-        bp = np.r_[np.asarray(s.x, dtype=float), [v for v in (lo, hi) if math.isfinite(v)]]
+    bp = s.breakpoints  # knots and bounded-tail limits: where the density jumps or kinks
     return Model(
         name=name or s.name or "sketch",
         kind="sketch",
