@@ -525,9 +525,14 @@ function pchipEndSlope(h0, h1, m0, m1) {
   return d;
 }
 
-function knotSlopes(x, p, interpolation) {
+// cdfsketch._pieces.knot_slopes: the density at each knot from inside its run (runs are
+// split at equal x). continueLower/continueUpper: a derived exponential tail holds mass
+// beyond that end; a zero monotone-cubic slope at the end of the outer run is then set
+// to the outer segment's secant, so the tail continues a positive density.
+function knotSlopes(x, p, interpolation, continueLower = false, continueUpper = false) {
   const n = x.length;
   const d = new Array(n).fill(0);
+  const runs = [];
   const starts = [0];
   const stops = [];
   for (let i = 0; i + 1 < n; i++) {
@@ -541,6 +546,7 @@ function knotSlopes(x, p, interpolation) {
     const a = starts[r];
     const b = stops[r];
     if (b - a < 2) continue;
+    runs.push([a, b]);
     const xs = x.slice(a, b);
     const ps = p.slice(a, b);
     if (interpolation === "pchip") {
@@ -553,9 +559,18 @@ function knotSlopes(x, p, interpolation) {
       d[b - 1] = d[b - 2];
     }
   }
+  if (interpolation === "pchip" && runs.length) {
+    const a = runs[0][0]; // the first knot of the first run
+    if (continueLower && d[a] === 0) d[a] = (p[a + 1] - p[a]) / (x[a + 1] - x[a]);
+    const z = runs[runs.length - 1][1] - 1; // the last knot of the last run
+    if (continueUpper && d[z] === 0) d[z] = (p[z] - p[z - 1]) / (x[z] - x[z - 1]);
+  }
   return d;
 }
 
+// cdfsketch._pieces._outer_density: the outer knot's slope on the first continuous
+// segment (past an atom at the outer knot); where it is not positive, the average
+// density over the knots' range (the density then jumps at the knot).
 function outerDensity(x, p, d, side) {
   const n = x.length;
   const idx = [];
@@ -565,12 +580,17 @@ function outerDensity(x, p, d, side) {
     const j = side === "lower" ? i + 1 : i - 1;
     if (x[i] !== x[j]) {
       if (d[i] > 0) return d[i];
-      const seg = Math.abs(p[j] - p[i]) / Math.abs(x[j] - x[i]);
-      if (seg > 0) return seg;
       break;
     }
   }
   return (p[n - 1] - p[0]) / (x[n - 1] - x[0]);
+}
+
+// cdfsketch._pieces._from_right: a piece's coefficients from its right end,
+// F = pr - s (e0 + s (e1 + s e2)) with s = (xb - x) / h, from those from its left end
+function fromRight(c) {
+  const [, c1, c2, c3] = c;
+  return [c1 + 2 * c2 + 3 * c3, -(c2 + 3 * c3), c3];
 }
 
 function expScale(tail, x, p, d, side, mass) {
@@ -582,31 +602,37 @@ function expScale(tail, x, p, d, side, mass) {
     // no density to continue, or mass / f underflows: the knots' span
     scale = x[x.length - 1] - x[0];
   }
-  // at most what a stated scale may be (like knot positions), so it can be restated
-  return Math.min(scale, MAX_ABS_X);
+  // at most what a stated scale may be, so it can be restated
+  return Math.min(scale, MAX_SCALE);
 }
 
 /** The piece table of valid knots, as cdfsketch._pieces.build_pieces. */
 function buildPieces(x, p, interpolation, lower, upper) {
   const n = x.length;
-  const d = knotSlopes(x, p, interpolation);
+  const p0 = p[0];
+  const pn = p[n - 1];
+  const derives = (tail, mass) => tail.kind === "exponential" && tail.scale === null && mass > 0;
+  const d = knotSlopes(x, p, interpolation, derives(lower, p0), derives(upper, 1.0 - pn));
   const xa = [];
   const hh = [];
   const cs = [];
+  const es = [];
   const atomX = [];
   const atomMass = [];
   let lowerExp = null;
   let upperExp = null;
-  const p0 = p[0];
-  const pn = p[n - 1];
-  // cdfsketch._pieces.check_limits: limits lie outside the knots, with or without mass
-  if (lower.kind === "bounded" && !(lower.limit < x[0])) {
+  // cdfsketch._pieces.check_limits: limits lie outside the knots (strictly where the
+  // tail holds mass)
+  if (lower.kind === "bounded" && !(lower.limit < x[0] || (lower.limit === x[0] && p0 === 0))) {
     throw new Error(
       `A bounded lower tail needs its limit below the first knot; got limit=` +
         `${lower.limit} and x[0]=${x[0]}. Lower the limit or move the knot.`,
     );
   }
-  if (upper.kind === "bounded" && !(upper.limit > x[n - 1])) {
+  if (
+    upper.kind === "bounded" &&
+    !(upper.limit > x[n - 1] || (upper.limit === x[n - 1] && pn === 1))
+  ) {
     throw new Error(
       `A bounded upper tail needs its limit above the last knot; got limit=` +
         `${upper.limit} and x[-1]=${x[n - 1]}. Raise the limit or move the knot.`,
@@ -617,6 +643,7 @@ function buildPieces(x, p, interpolation, lower, upper) {
       xa.push(lower.limit);
       hh.push(x[0] - lower.limit);
       cs.push(lower.density === "uniform" ? [0.0, p0, 0.0, 0.0] : [0.0, 0.0, p0, 0.0]);
+      es.push(fromRight(cs[cs.length - 1]));
     } else {
       lowerExp = { edge: x[0], mass: p0, scale: expScale(lower, x, p, d, "lower", p0) };
     }
@@ -631,10 +658,12 @@ function buildPieces(x, p, interpolation, lower, upper) {
     const delta = p[i + 1] - p[i];
     if (interpolation === "linear") {
       cs.push([p[i], delta, 0.0, 0.0]);
+      es.push([delta, 0.0, 0.0]);
     } else {
       const a = h * d[i];
       const b = h * d[i + 1];
       cs.push([p[i], a, 3 * delta - 2 * a - b, -2 * delta + a + b]);
+      es.push([b, 3 * delta - a - 2 * b, a + b - 2 * delta]);
     }
     xa.push(x[i]);
     hh.push(h);
@@ -645,12 +674,14 @@ function buildPieces(x, p, interpolation, lower, upper) {
       xa.push(x[n - 1]);
       hh.push(upper.limit - x[n - 1]);
       cs.push(upper.density === "uniform" ? [pn, mass, 0.0, 0.0] : [pn, 2 * mass, -mass, 0.0]);
+      es.push(fromRight(cs[cs.length - 1]));
     } else {
       upperExp = { edge: x[n - 1], mass, scale: expScale(upper, x, p, d, "upper", mass) };
     }
   }
   const m = cs.length;
   const c = [0, 1, 2, 3].map((r) => cs.map((row) => row[r]));
+  const e = [0, 1, 2].map((r) => es.map((row) => row[r]));
   const pl = c[0].slice();
   // numpy's c.sum(axis=0): ((c0 + c1) + c2) + c3
   const pr = new Array(m);
@@ -666,11 +697,24 @@ function buildPieces(x, p, interpolation, lower, upper) {
   // exact right ends: the pieces are contiguous (xb[j] === xa[j + 1])
   const last = pn < 1 && upper.kind === "bounded" ? upper.limit : x[n - 1];
   const xb = [...xa.slice(1), last];
+  // F is evaluated from the nearer end: from the left up to xm (capped at pm = F(xm)),
+  // from the right beyond it (floored at pm)
+  const xm = new Array(m);
+  const pm = new Array(m);
+  for (let k = 0; k < m; k++) {
+    xm[k] = Math.min(Math.max(xa[k] + 0.5 * hh[k], xa[k]), xb[k]);
+    const t = (xm[k] - xa[k]) / hh[k];
+    const f = c[0][k] + t * (c[1][k] + t * (c[2][k] + t * c[3][k]));
+    pm[k] = Math.min(Math.max(f, pl[k]), pr[k]);
+  }
   return {
     xa,
     xb,
     h: hh,
     c,
+    e,
+    xm,
+    pm,
     pl,
     pr,
     atomX,
@@ -695,10 +739,28 @@ function cdfAt(pc, v) {
   const j = searchRight(pc.xa, v) - 1;
   if (j < 0) return 0.0;
   if (v >= pc.xEnd) return pc.pHigh;
+  return pieceCdf(pc, j, v);
+}
+
+// cdfsketch._pieces.left_cdf: F on the left half of piece j, within [pl, pm]
+function leftCdf(pc, j, v) {
   const c = pc.c;
   const t = (v - pc.xa[j]) / pc.h[j];
   const f = c[0][j] + t * (c[1][j] + t * (c[2][j] + t * c[3][j]));
-  return Math.min(f, pc.pr[j]);
+  return Math.min(Math.max(f, pc.pl[j]), pc.pm[j]);
+}
+
+// cdfsketch._pieces.right_cdf: F on the right half of piece j, within [pm, pr]
+function rightCdf(pc, j, v) {
+  const e = pc.e;
+  const s = (pc.xb[j] - v) / pc.h[j];
+  const f = pc.pr[j] - s * (e[0][j] + s * (e[1][j] + s * e[2][j]));
+  return Math.min(Math.max(f, pc.pm[j]), pc.pr[j]);
+}
+
+// cdfsketch._pieces.piece_cdf: F inside piece j, from the nearer end
+function pieceCdf(pc, j, v) {
+  return v > pc.xm[j] ? rightCdf(pc, j, v) : leftCdf(pc, j, v);
 }
 
 // 1 - F, computed directly in the upper exponential tail (no cancellation)
@@ -724,48 +786,51 @@ function pdfAt(pc, v) {
   return Math.max(df, 0.0) / pc.h[j];
 }
 
-// Safeguarded Newton with bisection on one monotone cubic piece
-// (cdfsketch._pieces._solve_monotone_cubic for one point).
-function solveMonotoneCubic(c0, c1, c2, c3, u) {
-  let lo = 0.0;
-  let hi = 1.0;
-  const span = c1 + c2 + c3;
-  let t = Math.min(Math.max((u - c0) / (span > 0 ? span : 1.0), 0.0), 1.0);
-  for (let it = 0; it < 200; it++) {
-    const f = c0 + t * (c1 + t * (c2 + t * c3)) - u;
-    if (f > 0) hi = t;
-    else lo = t;
-    const df = c1 + t * (2 * c2 + t * 3 * c3);
-    let tn = t - f / df;
-    if (!Number.isFinite(tn) || tn < lo || tn > hi) tn = 0.5 * (lo + hi);
-    const exact = f === 0;
-    if (exact) tn = t;
-    const done = exact || Math.abs(tn - t) <= 4e-16 || hi - lo <= 4e-16;
-    t = tn;
-    if (done) break;
-  }
-  return t;
+// Doubles as 64-bit integer keys in the same order (adjacent doubles, adjacent keys),
+// as cdfsketch._inverse.order_key and from_order_key.
+const KEY_F64 = new Float64Array(1);
+const KEY_I64 = new BigInt64Array(KEY_F64.buffer);
+const KEY_SIGN = -(2n ** 63n);
+const KEY_MAGNITUDE = 2n ** 63n - 1n;
+
+function orderKey(x) {
+  KEY_F64[0] = x;
+  const b = KEY_I64[0];
+  return b >= 0n ? b : -(b & KEY_MAGNITUDE);
 }
 
-function invertPiece(pc, j, u) {
-  const c = pc.c;
-  const c0 = c[0][j];
-  const c1 = c[1][j];
-  const c2 = c[2][j];
-  const c3 = c[3][j];
-  let t;
-  if (c2 === 0 && c3 === 0) {
-    t = (u - c0) / c1;
-  } else if (c3 === 0) {
-    // quadratic pieces (taper tails): the root in its cancellation-free form (as _pieces.py)
-    const r = u - c0;
-    const den = c1 + Math.sqrt(Math.max(c1 * c1 + 4.0 * c2 * r, 0.0));
-    t = den > 0 ? (2.0 * r) / den : 0.0;
-  } else {
-    t = solveMonotoneCubic(c0, c1, c2, c3, u);
-  }
-  t = Math.min(Math.max(t, 0.0), 1.0);
+function fromOrderKey(k) {
+  KEY_I64[0] = k >= 0n ? k : -k | KEY_SIGN;
+  return KEY_F64[0];
+}
+
+// The closed-form inverse on a linear piece (cdfsketch._inverse.linear_inverse).
+function linearInverse(pc, j, u) {
+  const t = Math.min(Math.max((u - pc.c[0][j]) / pc.c[1][j], 0.0), 1.0);
   return Math.min(pc.xa[j] + pc.h[j] * t, pc.xb[j]);
+}
+
+// The smallest x in piece j with F(x) >= u, by bisection over the doubles
+// (cdfsketch._inverse.bisect_pieces for one point): first the half of the piece where
+// u lies (u <= pm: (xa, xm], else (xm, xb]), evaluated from that half's end, then the
+// count of doubles in (lo, hi] halved. Monotone in u by construction. u lies in
+// (pl, pr] of the piece.
+function bisectPiece(pc, j, u) {
+  // u = pr is reached at the piece's end exactly (F < pr inside a rising piece)
+  if (u >= pc.pr[j]) return pc.xb[j];
+  const right = u > pc.pm[j];
+  let lo = orderKey(right ? pc.xm[j] : pc.xa[j]);
+  let hi = orderKey(right ? pc.xb[j] : pc.xm[j]);
+  const cdf = right ? rightCdf : leftCdf;
+  // doubles in the bracket (as a float where it straddles zero, as in Python)
+  const count = lo < 0n && hi >= 0n ? Number(hi) - Number(lo) : Number(hi - lo);
+  const steps = Math.min(Math.ceil(Math.log2(Math.max(count, 1.0))) + 2, 66);
+  for (let k = 0; k < steps; k++) {
+    const mid = (lo >> 1n) + (hi >> 1n) + (lo & hi & 1n); // floor of the mean
+    if (cdf(pc, j, fromOrderKey(mid)) >= u) hi = mid;
+    else lo = mid;
+  }
+  return fromOrderKey(hi);
 }
 
 function supportOf(pc) {
@@ -795,14 +860,18 @@ function ppfAt(pc, u, low, high) {
     const j = searchLeft(pc.pr, u);
     if (j >= pc.pr.length) return pc.xEnd; // an atom at the top end
     if (u <= pc.pl[j]) return pc.xa[j]; // an atom, or the left end of a piece
-    return invertPiece(pc, j, u);
+    const c = pc.c;
+    return c[2][j] === 0 && c[3][j] === 0 ? linearInverse(pc, j, u) : bisectPiece(pc, j, u);
   }
+  // the tails (cdfsketch.tails.ResolvedExponentialTail.ppf): never on the body's side
   if (u <= pc.pLow) {
-    if (pc.lower !== null) return pc.lower.edge + pc.lower.scale * Math.log(u / pc.lower.mass);
-    return low;
+    if (pc.lower === null) return low;
+    const lt = pc.lower;
+    return Math.min(lt.edge + lt.scale * Math.log(u / lt.mass), lt.edge);
   }
   // u > pHigh: only with an upper exponential tail
-  return pc.upper.edge - pc.upper.scale * Math.log((1.0 - u) / pc.upper.mass);
+  const ut = pc.upper;
+  return Math.max(ut.edge - ut.scale * Math.log((1.0 - u) / ut.mass), ut.edge);
 }
 
 // ---------------------------------------------------------------- public reader

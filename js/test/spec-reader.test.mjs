@@ -31,6 +31,11 @@ for (const c of vectors.cases) {
     assert.deepEqual(Array.from(pc.xb), py.xb, "piece right ends xb");
     assert.deepEqual(Array.from(pc.h), py.h, "piece widths h");
     for (let r = 0; r < 4; r++) assert.deepEqual(Array.from(pc.c[r]), py.c[r], `coefficients c${r}`);
+    for (let r = 0; r < 3; r++) {
+      assert.deepEqual(Array.from(pc.e[r]), py.e[r], `coefficients from the right e${r}`);
+    }
+    assert.deepEqual(Array.from(pc.xm), py.xm, "where evaluation switches ends xm");
+    assert.deepEqual(Array.from(pc.pm), py.pm, "probabilities there pm");
     assert.deepEqual(Array.from(pc.pl), py.pl, "left-end probabilities");
     assert.deepEqual(Array.from(pc.pr), py.pr, "right-end probabilities");
     assert.deepEqual(Array.from(pc.atomX), py.atom_x);
@@ -99,6 +104,33 @@ for (const c of vectors.cases) {
     );
   });
 }
+
+test("a derived exponential tail continues the density at its knot", () => {
+  let checked = 0;
+  for (const c of vectors.cases) {
+    const d = readSpec(c.spec);
+    const pc = d.pieces;
+    const span = c.spec.knots.x[c.spec.knots.x.length - 1] - c.spec.knots.x[0];
+    for (const side of ["lower", "upper"]) {
+      const tail = pc[side];
+      if (tail === null || c.spec.tails[side].scale_rule !== "continue-density") continue;
+      // the body's density at the knot, from the outer piece next to it
+      const j = side === "lower" ? searchIndex(pc.xa, tail.edge) : searchIndex(pc.xb, tail.edge);
+      if (!(pc.pr[j] > pc.pl[j]) || tail.scale === span || tail.scale === 1e100) continue;
+      const body = side === "lower" ? pc.c[1][j] / pc.h[j] : pc.e[0][j] / pc.h[j];
+      const edge = tail.mass / tail.scale;
+      assert.ok(Math.abs(edge - body) <= 1e-12 * body, `${c.label} (${side}): ${edge} != ${body}`);
+      checked += 1;
+    }
+  }
+  assert.ok(checked >= 6, `expected derived tails to check; found ${checked}`);
+  const readme = readSpec(vectors.cases.find((k) => k.label.startsWith("README sketch")).spec);
+  const [below, at] = readme.pdf([45 - 1e-9, 45]);
+  assert.ok(Math.abs(below - at) <= 1e-9 * at, `pdf jumps at 45: ${below} then ${at}`);
+  assert.ok(Math.abs(at - 0.12 / 25) <= 1e-15, `pdf(45) = ${at}, the last secant 0.0048`);
+});
+
+const searchIndex = (a, v) => a.findIndex((w) => w === v);
 
 test("JSON text reads the same as the parsed object", () => {
   for (const c of vectors.cases.slice(0, 6)) {

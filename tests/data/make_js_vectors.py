@@ -135,7 +135,8 @@ def _cases(rng: np.random.Generator) -> list[tuple[str, Sketch]]:
             ),
         ),
         (
-            # the pchip end slope is zero here, so the scale comes from the outer segment
+            # the pchip end slope is zero here; the derived lower tail sets it to the outer
+            # segment's secant (changing the first piece) and continues that density
             "exponential tail derived from the outer segment",
             Sketch([0, 1, 2], [0.1, 0.11, 0.9], interpolation=pch),
         ),
@@ -182,6 +183,28 @@ def _cases(rng: np.random.Generator) -> list[tuple[str, Sketch]]:
         ("derived scales, no density at the knots", Sketch([0, 4], [0.5, 0.5])),
         ("derived scale underflows", Sketch([0, 1e-67, 1], [1e-263, 0.5, 1])),
         ("derived scale capped at 1e100", Sketch([0, 1e100], [0.5, 0.5 + 1e-10])),
+        (
+            # the README sketch: the pchip slope at 45 is zero, the derived upper tail sets
+            # it to the last secant, so the density is continuous at 45
+            "README sketch, derived upper tail continues the density",
+            Sketch(
+                [2, 4, 20, 45],
+                [0.1, 0.55, 0.85, 0.97],
+                interpolation=pch,
+                upper_tail=ExponentialTail(),
+            ),
+        ),
+        (
+            # bounded tails without mass may have their limits at the outer knots
+            "bounded limits at the outer knots, no tail mass (pchip)",
+            Sketch(
+                [0, 1, 2],
+                [0, 0.5, 1],
+                interpolation=pch,
+                lower_tail=BoundedTail(0.0),
+                upper_tail=BoundedTail(2.0, density="taper"),
+            ),
+        ),
     ]
     # random knots: sorted draws, probabilities strictly inside (0, 1) and rising
     xr = np.sort(rng.normal(10.0, 3.0, 12))
@@ -273,6 +296,9 @@ def _pieces_record(s: Sketch) -> dict[str, Any]:
         "xb": pc.xb.tolist(),
         "h": pc.h.tolist(),
         "c": pc.c.tolist(),
+        "e": pc.e.tolist(),
+        "xm": pc.xm.tolist(),
+        "pm": pc.pm.tolist(),
         "pl": pc.pl.tolist(),
         "pr": pc.pr.tolist(),
         "atom_x": pc.atom_x.tolist(),
