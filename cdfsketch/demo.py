@@ -24,6 +24,7 @@ from __future__ import annotations
 
 import subprocess
 import sys
+import textwrap
 import time
 import warnings
 from collections.abc import Callable
@@ -46,6 +47,8 @@ SCENARIO = (
 FILES = ("pump_repair_hours.json", "pump_repair_review.html")
 #: Knots the automatic start may use: a handful a person can shape.
 START_KNOTS = 7
+#: Where the invented repair routes meet (h): the analyst's knots.
+ROUTE_KNOTS = (2.5, 24.0, 48.0)
 
 
 def repair_hours(*, rng: Any = SEED, n: int = 64) -> np.ndarray:
@@ -91,6 +94,7 @@ def run(out: Any = "cdfsketch-demo", *, echo: Callable[[str], Any] = print) -> l
         Receives each line of the story (``print`` by default).
     """
     from ._files import check_output_path
+    from .empirical import ECDF
     from .fit import fit_candidates
     from .metrics import compare
     from .review import Review, save_html
@@ -103,7 +107,8 @@ def run(out: Any = "cdfsketch-demo", *, echo: Callable[[str], Any] = print) -> l
     t0 = time.perf_counter()
 
     hours = repair_hours()
-    echo(f"1. Data: {hours.size} {SCENARIO}.")
+    for line in textwrap.wrap(f"1. Data: {hours.size} {SCENARIO}.", 90, subsequent_indent="   "):
+        echo(line)
     echo(
         f"   {np.unique(hours).size} distinct values (logged to the half hour), "
         f"range {_h(hours.min())} – {_h(hours.max())}, median {_h(float(np.median(hours)))}."
@@ -117,12 +122,20 @@ def run(out: Any = "cdfsketch-demo", *, echo: Callable[[str], Any] = print) -> l
     )
 
     # The adjustments an analyst makes by dragging in the editor, here in code:
-    # tails beyond the data (a judgement) and a knot at the one-day shoulder.
+    # knots where the three repair routes meet (on-site fixes end by about 2.5 h, a part
+    # arrives within a day, a specialist within two), placed on the data's ECDF, and
+    # tails beyond the data (a judgement the data cannot make).
+    ecdf = ECDF(hours)
     s = start.replace(lower_tail=BoundedTail(0.25), upper_tail=ExponentialTail(scale=24.0))
     s = s.move_knot(0, p=0.02).move_knot(len(s) - 1, p=0.97)
-    sketch = s.with_knot(24.0, float(s.cdf(24.0))).replace(name="sketch")
-    echo(f"3. Adjusted sketch: {len(sketch)} knots; a knot at the one-day shoulder; lower tail")
-    echo("   bounded at 0.25 h (2 %), upper tail exponential with a stated 24 h scale (3 %).")
+    for x in ROUTE_KNOTS:
+        s = s.with_knot(x, float(np.clip(ecdf.cdf(x), 0.03, 0.96)))
+    sketch = s.replace(name="sketch")
+    echo(
+        f"3. Adjusted sketch: {len(sketch)} knots; knots where the repair routes meet "
+        f"({', '.join(_h(x) for x in ROUTE_KNOTS)});"
+    )
+    echo("   lower tail bounded at 0.25 h (2 %), upper tail exponential, stated 24 h scale (3 %).")
     echo(
         f"   mean {_h(sketch.mean())}, median {_h(sketch.median())}, "
         f"95th percentile {_h(float(sketch.ppf(0.95)))}, P(down > 2 days) "
@@ -136,16 +149,22 @@ def run(out: Any = "cdfsketch-demo", *, echo: Callable[[str], Any] = print) -> l
         cands = fit_candidates(hours, rng=SEED, progress=False)
     best = sorted(cands, key=lambda c: c.aic)[:3]
     table = compare(hours, [sketch, *best], rng=SEED, progress=False)
+    below = {m.name: float(m.cdf(0.0)) for m in [sketch, *best]}
     echo(f"4. Compared with {len(cands)} fitted candidates (the 3 lowest-AIC shown):")
-    echo(f"   {'candidate':<16}{'KS distance':>12}{'W1 (h)':>10}{'held-out log score':>20}")
+    echo(f"   {'candidate':<22}{'KS':>7}{'W1 (h)':>8}{'held-out log score':>20}{'P(< 0 h)':>10}")
     for row in table.rows:
-        score = row.get("log_score")
         echo(
-            f"   {row['name'][:15]:<16}{significant(row['ks'], 3):>12}"
-            f"{significant(row['w1'], 3):>10}{significant(score, 3):>20}"
+            f"   {row['name'][:21]:<22}{significant(row['ks'], 3):>7}"
+            f"{significant(row['w1'], 3):>8}{significant(row.get('log_score'), 3):>20}"
+            f"{significant(below[row['name']], 2):>10}"
         )
     echo("   Lower KS and W1: closer to the data. Higher held-out log score: predicts unseen")
     echo("   repairs better (optimistic for the sketch, which was drawn on all the data).")
+    negative = [n for n, v in below.items() if v > 1e-3]
+    reason = "it keeps the three repair routes and a tail for waits longer than any seen"
+    if negative:
+        verb = "puts" if len(negative) == 1 else "put"
+        reason += f", while {' and '.join(negative)} {verb} repair times below 0 h"
 
     review = Review(
         hours,
@@ -158,9 +177,11 @@ def run(out: Any = "cdfsketch-demo", *, echo: Callable[[str], Any] = print) -> l
     review.choose(
         "sketch",
         by="demo review group (invented)",
-        rationale="keeps the three repair routes and a tail for waits longer than any seen",
+        rationale=reason,
     )
-    echo("5. Decision: the review group (invented) chose the sketch; the reason is recorded.")
+    echo("5. Decision: the review group (invented) chose the sketch:")
+    for line in textwrap.wrap(f"{reason}.", 87, initial_indent="   ", subsequent_indent="   "):
+        echo(line)
 
     from .spec import dump_spec
 
