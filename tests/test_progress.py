@@ -41,7 +41,8 @@ class ZMQInteractiveShell:  # the class name is what in_notebook() looks for
 
 
 def test_automatic_bar_appears_after_a_second_in_a_kernel(monkeypatch):
-    pytest.importorskip("ipywidgets")
+    import ipywidgets  # noqa: F401  (loaded before IPython is faked below)
+
     fake = types.ModuleType("IPython")
     fake.get_ipython = ZMQInteractiveShell  # returns an instance
     shown = []

@@ -93,7 +93,6 @@ def test_settings_for_unknown_outputs_fail_on_the_first_block():
 
 
 def test_output_curves_need_a_histogram_on_dask():
-    pytest.importorskip("dask")
     res = consequences(
         None,
         {"x": A},

@@ -8,6 +8,7 @@ from __future__ import annotations
 
 import sys
 
+import dask.array  # noqa: F401  (the dask extra is a test dependency: required)
 import numpy as np
 import pytest
 
@@ -17,8 +18,6 @@ from cdfsketch._streams import root_seed
 from cdfsketch.inputs import InputSet
 from cdfsketch.outcomes import ModelError, consequences
 from cdfsketch.scale import WINDOW, inputset_to_dask, sketch_to_dask, window_uniforms
-
-pytest.importorskip("dask.array")
 
 HOURS = Sketch([1, 2, 4, 9], [0, 0.35, 0.8, 0.97], upper_tail=ExponentialTail(scale=3.0))
 HOURS_ALT = Sketch([1, 3, 5, 10], [0, 0.3, 0.75, 0.97], upper_tail=ExponentialTail(scale=4.0))
@@ -52,8 +51,8 @@ EXACT = ("mean", "mean_se", "sd", "diff_mean", "diff_mean_se", "crn_gain", "diff
 
 @pytest.fixture(scope="module")
 def client():
-    distributed = pytest.importorskip("dask.distributed")
     import cloudpickle
+    import dask.distributed as distributed
 
     cloudpickle.register_pickle_by_value(sys.modules[__name__])  # workers cannot import tests
     with (
