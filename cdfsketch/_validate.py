@@ -159,6 +159,11 @@ def first_bad(mask: np.ndarray) -> int | None:
     return int(hits[0]) if hits.size else None
 
 
+def _kind(value: Any) -> str:
+    """What kind of value was found, in words (a bool is named as such, not as an int)."""
+    return "a bool" if isinstance(value, bool | np.bool_) else type(value).__name__
+
+
 def _is_real(value: Any) -> bool:
     return isinstance(value, numbers.Real) and not isinstance(value, bool | np.bool_)
 
@@ -200,7 +205,7 @@ def number(
     elif high is not None:
         rule += f" {hi_sym} {high:g}"
     if not _is_real(value):
-        kind = "a bool" if isinstance(value, bool | np.bool_) else type(value).__name__
+        kind = _kind(value)
         raise fail(
             rule,
             f"{quote(value)} ({kind})",
@@ -255,7 +260,7 @@ def integer(
     else:
         rule = f"{field} must be an integer"
     if isinstance(value, bool | np.bool_) or not isinstance(value, numbers.Integral):
-        kind = "a bool" if isinstance(value, bool | np.bool_) else type(value).__name__
+        kind = _kind(value)
         raise fail(
             rule,
             f"{quote(value)} ({kind})",

@@ -352,11 +352,10 @@ def from_data(
     (2, True)
     """
     x = as_data(data)
-    choice(interpolation, field="interpolation", options=("linear", "pchip"))
-    budget = None if max_knots is None else integer(max_knots, field="max_knots", low=2)
-    return _from_ecdf(
-        ECDF(x), data_fingerprint(x), level=level, interpolation=interpolation,
-        budget=budget, lower_tail=lower_tail, upper_tail=upper_tail, name=name, units=units,
+    return from_ecdf(
+        ECDF(x), fingerprint=data_fingerprint(x), level=level, interpolation=interpolation,
+        max_knots=max_knots, lower_tail=lower_tail, upper_tail=upper_tail, name=name,
+        units=units,
     )  # fmt: skip
 
 

@@ -32,7 +32,7 @@ class Plan:
     def __init__(self, **kw: Any) -> None:
         self.__dict__.update(kw)
 
-    # Sketch and InputSet travel to worker processes as their JSON (to_portable).
+    # Sketch and InputSet travel as their JSON (to_portable): a worker caches what it read.
     def __getstate__(self) -> dict[str, Any]:
         state = dict(self.__dict__)
         state["inputs"] = to_portable(self.inputs)

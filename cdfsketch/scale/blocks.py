@@ -134,9 +134,11 @@ def window_uniforms(
 def to_portable(obj: Any) -> tuple[str, Any]:
     """``obj`` in a form pickle can carry to a worker process.
 
-    Sketch and InputSet are immutable values that refuse pickle's attribute
-    setting, so they travel as their spec / input-set JSON (exact: numbers
-    are written with ``repr``, so the draws are the same bit for bit).
+    Sketch and InputSet travel as their spec / input-set JSON (exact: numbers
+    are written with ``repr``, so the draws are the same bit for bit). They
+    would pickle too; the text is the key of the worker's cache, so the tasks
+    on one worker share one value and its compiled sampler instead of
+    compiling it again for every block.
 
     Examples
     --------
