@@ -37,6 +37,7 @@ __all__ = [
     "KnotError",
     "check_knots",
     "clamp_knot",
+    "insert_knot",
     "min_gap",
     "project_knots",
 ]
@@ -439,3 +440,38 @@ def _clamp_x(
     if tie_hi and target > hi:
         return float(xa[i + 1])
     return min(max(target, lo), hi)
+
+
+def insert_knot(
+    x: np.ndarray, p: np.ndarray, xv: float, pv: float, *, limits: tuple[float, float]
+) -> tuple[np.ndarray, np.ndarray]:
+    """New knot arrays with ``(xv, pv)`` added, ``pv`` clamped between its neighbours.
+
+    A knot at an existing ``x`` makes a jump (up to it when ``pv`` is below
+    that knot's p). ``xv`` must lie strictly inside ``limits`` (the bounded
+    tails' limits).
+
+    Examples
+    --------
+    >>> nx, np_ = insert_knot(np.array([0.0, 2.0]), np.array([0.0, 1.0]), 1.0, 0.9,
+    ...                       limits=(-np.inf, np.inf))
+    >>> nx.tolist(), np_.tolist()
+    ([0.0, 1.0, 2.0], [0.0, 0.9, 1.0])
+    """
+    lo, hi = limits
+    if not lo < xv < hi:
+        raise fail(
+            f"A new knot must lie inside the bounded tails' limits ({lo:g}, {hi:g})",
+            f"x={xv!r}",
+            "Move the limit first.",
+            error=KnotError,
+            field="x",
+            value=xv,
+        )
+    i = int(np.searchsorted(x, xv, side="right"))
+    if i > 0 and x[i - 1] == xv and pv < p[i - 1]:
+        i -= 1  # a jump up to the existing knot at this x
+    p_lo = float(p[i - 1]) if i > 0 else 0.0
+    p_hi = float(p[i]) if i < x.size else 1.0
+    pv = min(max(pv, p_lo), p_hi)
+    return np.insert(x, i, xv), np.insert(p, i, pv)

@@ -28,7 +28,7 @@ CORE = [
     "__init__", "_version", "_validate", "_frozen", "_streams", "_limits", "_extras",
     "_files", "_numfmt", "_progress", "holdout", "knots", "tails", "_pieces", "sketch",
     "sampler", "summary", "scipy_adapter", "spec", "loading", "inputs", "empirical",
-    "protocol",
+    "protocol", "_blocks", "_distribution", "_inverse", "_tables",
 ]  # fmt: skip
 
 

@@ -1,8 +1,9 @@
 """Sampling designs in windows of stream coordinates: random, Latin hypercube, Sobol.
 
-The points of one call are cut into fixed *windows* of :data:`WINDOW`
-points (the last window holds what is left). Window ``k`` of input
-``name`` is drawn from the stream ``generator(root, "input", name,
+The points of one call are cut into fixed *windows* of
+:data:`~cdfsketch._blocks.WINDOW` points (the last window holds what is
+left; the rule's one home is :mod:`cdfsketch._blocks`). Window ``k`` of
+input ``name`` is drawn from the stream ``generator(root, "input", name,
 "window", k)``, so
 
 * an input's draws do not depend on which other independent inputs exist,
@@ -36,28 +37,14 @@ from typing import Any
 
 import numpy as np
 
+from .._blocks import U_MAX, U_MIN, WINDOW, clip_open, random_window
 from .._streams import generator
 
 __all__ = ["DESIGNS", "SOBOL_MAX", "U_MAX", "U_MIN", "WINDOW", "clip_open", "design_uniforms"]
 
-#: Points per window (a power of two, so Sobol windows are whole balanced runs).
-WINDOW = 1 << 16
 DESIGNS = ("random", "lhs", "sobol")
-U_MIN = 2.0**-54
-U_MAX = 1.0 - 2.0**-53
 #: Most points of one Sobol sequence (scipy's 30-bit engine).
 SOBOL_MAX = 1 << 30
-
-
-def clip_open(u: np.ndarray) -> np.ndarray:
-    """Move exact 0s and 1s strictly inside (0, 1), in place.
-
-    Examples
-    --------
-    >>> clip_open(np.array([0.0, 0.5, 1.0])).tolist() == [U_MIN, 0.5, U_MAX]
-    True
-    """
-    return np.clip(u, U_MIN, U_MAX, out=u)
 
 
 def _qmc() -> Any:
@@ -88,7 +75,7 @@ def design_uniforms(
     out: dict[str, np.ndarray] = {}
     if design == "random":
         for name in names:
-            out[name] = clip_open(generator(root, "input", name, "window", window).random(m))
+            out[name] = random_window(root, name, window, m)
     elif design == "lhs":
         qmc = _qmc()
         for name in names:

@@ -3,7 +3,7 @@
 The streams rule
 ----------------
 One public call takes ``root = root_seed(rng)`` once. Its points are cut into
-windows of :data:`~cdfsketch.inputs.designs.WINDOW` (2¹⁶) points in stream
+windows of :data:`~cdfsketch._blocks.WINDOW` (2¹⁶) points in stream
 coordinates; window ``k`` of an input comes from its own stream keyed by
 (input name, ``k``) (:mod:`cdfsketch.inputs.designs`). Dependence is imposed
 per window on the dependent group only (the inputs named in ``rank_corr``,
@@ -13,7 +13,8 @@ in sorted name order). Hence, for the same ``rng``:
   independent input unchanged (``"random"`` and ``"lhs"`` designs; a Sobol
   point is joint over all names, so there only reordering is free);
 * :meth:`InputSet.blocks` gives exactly the values of one big
-  :meth:`InputSet.sample` call, whatever the block size;
+  :meth:`InputSet.sample` call, whatever the block size, and
+  :meth:`InputSet.to_dask` gives them as Dask arrays, whatever the chunks;
 * Iman–Conover and Latin hypercube strata act per window: for sizes above
   2¹⁶ the target is met in each window of 2¹⁶ points and each window is its
   own Latin hypercube.
@@ -22,8 +23,6 @@ in sorted name order). Hence, for the same ``rng``:
 from __future__ import annotations
 
 import json
-import math
-import warnings
 from collections.abc import Iterator, Mapping
 from typing import TYPE_CHECKING, Any
 
@@ -31,20 +30,17 @@ import numpy as np
 
 from .._frozen import FrozenDict, freeze, thaw
 from .._limits import MAX_INPUTS, MAX_NAME_CHARS, MAX_SPEC_BYTES
-from .._streams import root_seed
 from .._validate import choice, fail, integer, mapping, quote, text
 from ..sketch import Sketch
-from .dependence import check_rank_corr, copula_correlation, gaussian_copula, iman_conover
-from .designs import DESIGNS, SOBOL_MAX, WINDOW, clip_open, design_uniforms
+from .dependence import check_rank_corr
 from .draws import Draws
+from .windows import DEPENDENCE, check_call, collect, cut, inputset_to_dask
 from .writing import dump_inputset, inputset_to_dict
 
 if TYPE_CHECKING:
     from pathlib import Path
 
 __all__ = ["DEPENDENCE", "MAX_INPUTS", "InputSet"]
-
-DEPENDENCE = ("iman-conover", "gaussian-copula", "independent")
 
 
 class InputSet:
@@ -258,67 +254,6 @@ class InputSet:
         return InputSet(kwargs.pop("sketches"), **kwargs)
 
     # ------------------------------------------------------------ sampling
-    def _check_call(self, size: Any, design: Any, dependence: Any) -> int:
-        n = integer(size, field="size", low=0, example="size=10_000")
-        choice(design, field="design", options=DESIGNS)
-        choice(dependence, field="dependence", options=DEPENDENCE)
-        if design == "sobol":
-            if n > SOBOL_MAX:
-                raise fail(
-                    f"size must be at most {SOBOL_MAX:,} with design='sobol'",
-                    f"{n:,}",
-                    "Draw fewer points, or use design='lhs' or 'random'.",
-                    field="size",
-                    value=size,
-                )
-            if n & (n - 1):
-                warnings.warn(
-                    f"Sobol points are balanced only in runs of a power of two; size={n:,} is "
-                    f"not one. Use e.g. size={1 << max(n.bit_length() - 1, 0):,} or "
-                    f"{1 << n.bit_length():,}.",
-                    UserWarning,
-                    stacklevel=4,
-                )
-        return n
-
-    def _windows(
-        self, n: int, root: np.random.SeedSequence, design: str, dependence: str
-    ) -> Iterator[tuple[int, dict[str, np.ndarray]]]:
-        """(start, name → uniforms) for each window of the ``n`` points, in order."""
-        group = self._group if dependence != "independent" else ()
-        normal = copula_correlation(self._matrix) if group else None
-        for k in range(math.ceil(n / WINDOW)):
-            start = k * WINDOW
-            m = min(WINDOW, n - start)
-            u = design_uniforms(design, self._names, root, k, m)
-            if group:
-                block = np.vstack([u[g] for g in group])  # one row per input
-                if dependence == "iman-conover":
-                    block = iman_conover(block, normal)
-                else:
-                    block = clip_open(gaussian_copula(block, normal))
-                for j, g in enumerate(group):
-                    u[g] = block[j]
-            yield start, u
-
-    def _values(
-        self, n: int, rng: Any, design: str, dependence: str, transform: bool
-    ) -> Iterator[tuple[int, dict[str, np.ndarray]]]:
-        root = root_seed(rng)
-        samplers = {name: sk.sampler() for name, sk in self._sketches.items()} if transform else {}
-        for start, u in self._windows(n, root, design, dependence):
-            if transform:
-                u = {name: samplers[name].ppf(v) for name, v in u.items()}
-            yield start, u
-
-    def _collect(self, size: Any, rng: Any, design: str, dependence: str, transform: bool) -> Draws:
-        n = self._check_call(size, design, dependence)
-        out = {name: np.empty(n) for name in self._names}
-        for start, vals in self._values(n, rng, design, dependence, transform):
-            for name, v in vals.items():
-                out[name][start : start + v.size] = v
-        return Draws(out, self._rank_corr)
-
     def uniforms(
         self,
         size: int,
@@ -341,7 +276,8 @@ class InputSet:
         >>> bool(np.array_equal(s.sampler().ppf(u), ins.sample(5, rng=3)["a"]))
         True
         """
-        return self._collect(size, rng, design, dependence, transform=False)
+        n = check_call(size, design, dependence)
+        return collect(self, n, rng, design, dependence, transform=False)
 
     def sample(
         self,
@@ -384,7 +320,8 @@ class InputSet:
         >>> row.target, round(row.achieved, 2)
         (0.8, 0.8)
         """
-        return self._collect(size, rng, design, dependence, transform=True)
+        n = check_call(size, design, dependence)
+        return collect(self, n, rng, design, dependence, transform=True)
 
     def blocks(
         self,
@@ -411,35 +348,52 @@ class InputSet:
         ...                                              ins.sample(10, rng=2)["a"]))
         ([4, 4, 2], True)
         """
-        n = self._check_call(size, design, dependence)
+        n = check_call(size, design, dependence)
         b = integer(block, field="block", low=1, example="block=100_000")
-        return self._cut(n, b, rng, design, dependence, not uniforms)
+        return cut(self, n, b, rng, design, dependence, not uniforms)
 
-    def _cut(
-        self, n: int, b: int, rng: Any, design: str, dependence: str, transform: bool
-    ) -> Iterator[Draws]:
-        pending: list[dict[str, np.ndarray]] = []
-        have = 0
-        for _, vals in self._values(n, rng, design, dependence, transform):
-            m = next(iter(vals.values())).size
-            pos = 0
-            while pos < m:
-                take = min(b - have, m - pos)
-                whole = take == m  # a whole window: passed on without a copy
-                pending.append({k: v if whole else v[pos : pos + take] for k, v in vals.items()})
-                have += take
-                pos += take
-                if have == b:
-                    yield self._join(pending)
-                    pending, have = [], 0
-        if have:
-            yield self._join(pending)
+    def to_dask(
+        self,
+        size: int,
+        *,
+        chunks: int | tuple[int, ...],
+        rng: Any = None,
+        design: str = "random",
+        dependence: str = "iman-conover",
+    ) -> dict[str, Any]:
+        """``size`` joint draws as lazy Dask arrays, name → array (extra: ``dask``).
 
-    def _join(self, parts: list[dict[str, np.ndarray]]) -> Draws:
-        if len(parts) == 1 and all(v.base is None for v in parts[0].values()):
-            return Draws({k: parts[0][k] for k in self._names}, self._rank_corr)
-        return Draws(
-            {k: np.concatenate([p[k] for p in parts]) for k in self._names}, self._rank_corr
+        Bit for bit ``sample(size, rng=rng, design=design,
+        dependence=dependence)``, whatever ``chunks``, scheduler, worker count
+        or task order: each chunk is filled from the windows of 2¹⁶ draws it
+        overlaps, window ``k`` of an input from the stream keyed by (input
+        name, ``k``), with the dependence imposed per window. The arrays are
+        columns of one 2-D array, so computing them together draws each
+        window once. Latin hypercube and Sobol designs work too (window by
+        window, as in memory).
+
+        Parameters
+        ----------
+        size : int
+            Draws per input (at least 1).
+        chunks : int or tuple of int
+            Draws per Dask chunk, or the chunk lengths; multiples of 2¹⁶
+            waste nothing.
+        rng : optional
+            Anything :func:`numpy.random.default_rng` takes; the streams' root.
+        design, dependence : str
+            As in :meth:`sample`.
+
+        Examples
+        --------
+        >>> s = Sketch([0, 10], [0, 1])
+        >>> ins = InputSet({"a": s, "b": s})
+        >>> b = ins.to_dask(6, chunks=4, rng=1)["b"].compute(scheduler="synchronous")
+        >>> bool(np.array_equal(b, ins.sample(6, rng=1)["b"]))
+        True
+        """
+        return inputset_to_dask(
+            self, size, chunks=chunks, rng=rng, design=design, dependence=dependence
         )
 
     # ------------------------------------------------------------ files

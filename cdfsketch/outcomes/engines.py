@@ -11,9 +11,11 @@ from typing import Any
 
 import numpy as np
 
+from .._blocks import from_portable, to_portable
 from .._progress import Progress
 from .._validate import fail
-from ..scale.blocks import from_portable, to_portable, window_uniforms
+from ..inputs.windows import pack_inputset, unpack_inputset, window_uniforms
+from ..sketch import Sketch
 from .arguments import per_output, read_numbers
 from .evaluate import ModelError, evaluate_block
 from .stats import bad_draws, block_stats, combine, histogram_quantile, sorted_quantile
@@ -26,21 +28,25 @@ CURVE_POINTS = 1025
 ROUND = 32
 
 
+def _pack(obj: Any) -> tuple[Any, Any]:
+    return to_portable(obj, Sketch.from_spec if isinstance(obj, Sketch) else None)
+
+
 class Plan:
     """Everything a block needs (picklable, so Dask workers can run it)."""
 
     def __init__(self, **kw: Any) -> None:
         self.__dict__.update(kw)
 
-    # Sketch and InputSet travel as their JSON (to_portable): a worker caches what it read.
+    # Sketches travel as their spec JSON: a worker caches what it read (and its samplers).
     def __getstate__(self) -> dict[str, Any]:
         state = dict(self.__dict__)
-        state["inputs"] = to_portable(self.inputs)
-        state["candidates"] = [to_portable(c) for c in self.candidates]
+        state["inputs"] = pack_inputset(self.inputs)
+        state["candidates"] = [_pack(c) for c in self.candidates]
         return state
 
     def __setstate__(self, state: dict[str, Any]) -> None:
-        state["inputs"] = from_portable(state["inputs"])
+        state["inputs"] = unpack_inputset(state["inputs"])
         state["candidates"] = [from_portable(c) for c in state["candidates"]]
         self.__dict__.update(state)
 

@@ -2,7 +2,7 @@
 
 One entry point, :func:`consequences`, in memory or — with ``chunks=`` — on
 Dask. Both draw the input set's windows of 2¹⁶ points (the stream blocks of
-:mod:`cdfsketch.scale.blocks`; the draws equal ``inputs.sample(size, rng=rng,
+:mod:`cdfsketch._blocks`; the draws equal ``inputs.sample(size, rng=rng,
 ...)``) and combine the same per-block statistics
 (:mod:`cdfsketch.outcomes.stats`), so for the same ``rng`` and ``size``
 the means, sds, exceedance probabilities and all their differences and
@@ -22,10 +22,11 @@ from typing import Any
 
 import numpy as np
 
+from .._blocks import WINDOW, BlockLayout
 from .._streams import root_seed
 from .._validate import choice, fail, integer, number, quote, text
 from ..inputs import DEPENDENCE, DESIGNS
-from ..scale.blocks import WINDOW, BlockLayout, as_inputset
+from ..scale.blocks import as_inputset
 from .arguments import (
     per_output,
     read_candidates,

@@ -1,6 +1,6 @@
 """Per-block statistics of the outputs and their exact combination (numpy + math).
 
-A run is cut into stream blocks (:mod:`cdfsketch.scale.blocks`). Each block
+A run is cut into stream blocks (:mod:`cdfsketch._blocks`). Each block
 gives, per output and candidate, its draw count, sum, sum of squared
 deviations from the block mean, minimum, maximum, exceedance counts, the same
 for every paired difference between candidates, and the quantiles of a few

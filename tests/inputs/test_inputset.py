@@ -238,14 +238,14 @@ def test_import_and_independent_random_draws_stay_numpy_only():
 @contextlib.contextmanager
 def small_window():
     # a window of 700 points, so that many window edges fall inside a short run
-    from cdfsketch.inputs import designs, inputset
+    from cdfsketch.inputs import designs, windows
 
-    old = inputset.WINDOW
-    inputset.WINDOW = designs.WINDOW = 700
+    old = windows.WINDOW
+    windows.WINDOW = designs.WINDOW = 700
     try:
         yield
     finally:
-        inputset.WINDOW = designs.WINDOW = old
+        windows.WINDOW = designs.WINDOW = old
 
 
 @settings(max_examples=25, deadline=None)

@@ -80,9 +80,40 @@ def exact_columns(res):
 
 @pytest.mark.parametrize("chunks", [WINDOW, 1000, 100_000, (SIZE - 5, 5)])
 def test_sketch_to_dask_equals_the_input_set_sample_for_any_chunks(chunks):
-    got = sketch_to_dask(HOURS, SIZE, chunks=chunks, rng=9).compute(scheduler="synchronous")
+    got = HOURS.to_dask(SIZE, chunks=chunks, rng=9).compute(scheduler="synchronous")
     want = InputSet({"x": HOURS}).sample(SIZE, rng=9)["x"]
     assert np.array_equal(got, want)
+
+
+def test_the_function_forms_are_the_methods():
+    a = sketch_to_dask(HOURS, 1000, chunks=300, rng=9, name="hours")
+    b = HOURS.to_dask(1000, chunks=300, rng=9, name="hours")
+    assert np.array_equal(a.compute(scheduler="synchronous"), b.compute(scheduler="synchronous"))
+    arrs = inputset_to_dask(dict(INS.sketches), 1000, chunks=300, rng=9)
+    want = InputSet(dict(INS.sketches)).sample(1000, rng=9)
+    for name in INS.names:
+        assert np.array_equal(arrs[name].compute(scheduler="synchronous"), want[name])
+
+
+def test_streams_are_keyed_by_the_input_name():
+    a = HOURS.to_dask(500, chunks=500, rng=9, name="a").compute(scheduler="synchronous")
+    b = HOURS.to_dask(500, chunks=500, rng=9, name="b").compute(scheduler="synchronous")
+    assert not np.array_equal(a, b)
+    assert np.array_equal(a, InputSet({"a": HOURS, "b": RATE}).sample(500, rng=9)["a"])
+
+
+@pytest.mark.parametrize(
+    ("call", "match"),
+    [
+        ({"size": 0, "chunks": 5}, "size must be"),
+        ({"size": 10, "chunks": 0}, "chunks must be"),
+        ({"size": 10, "chunks": (4, 4)}, "chunks must add up to size"),
+        ({"size": 10, "chunks": 5, "name": ""}, "name"),
+    ],
+)
+def test_bad_dask_arguments_say_what_must_hold(call, match):
+    with pytest.raises(ValueError, match=match):
+        HOURS.to_dask(**call)
 
 
 @pytest.mark.parametrize(
@@ -94,7 +125,7 @@ def test_sketch_to_dask_equals_the_input_set_sample_for_any_chunks(chunks):
     ],
 )
 def test_inputset_to_dask_equals_sample_with_designs_and_dependence(design, dependence, size):
-    arrs = inputset_to_dask(INS, size, chunks=50_000, rng=4, design=design, dependence=dependence)
+    arrs = INS.to_dask(size, chunks=50_000, rng=4, design=design, dependence=dependence)
     want = INS.sample(size, rng=4, design=design, dependence=dependence)
     for name in INS.names:
         assert np.array_equal(arrs[name].compute(scheduler="synchronous"), want[name])
@@ -114,7 +145,9 @@ def test_missing_dask_is_a_clear_error(monkeypatch):
     monkeypatch.setitem(sys.modules, "dask", None)
     monkeypatch.setitem(sys.modules, "dask.array", None)
     with pytest.raises(MissingExtraError, match=r"pip install 'cdfsketch\[dask\]'"):
-        sketch_to_dask(HOURS, 10, chunks=5)
+        HOURS.to_dask(10, chunks=5)
+    with pytest.raises(MissingExtraError, match="dask"):
+        INS.to_dask(10, chunks=5)
     with pytest.raises(MissingExtraError, match="dask"):
         consequences(None, INS, vary="hours", candidates=[HOURS], size=100, chunks=WINDOW)
 
@@ -141,9 +174,9 @@ def test_distributed_cluster_gives_the_same_bits(client):
     dist = consequences(budget, INS, chunks=WINDOW, **KW)  # the fixture's client is active
     assert dist.method["engine"] == "dask"
     assert dist.table() == sync.table()
-    got = sketch_to_dask(HOURS, SIZE, chunks=70_000, rng=3).compute()
+    got = HOURS.to_dask(SIZE, chunks=70_000, rng=3).compute()
     assert np.array_equal(got, InputSet({"x": HOURS}).sample(SIZE, rng=3)["x"])
-    arrs = inputset_to_dask(INS, SIZE, chunks=WINDOW, rng=3)
+    arrs = INS.to_dask(SIZE, chunks=WINDOW, rng=3)
     assert np.array_equal(arrs["parts"].compute(), INS.sample(SIZE, rng=3)["parts"])
 
 
