@@ -93,6 +93,14 @@ class Plan:
         return counts
 
 
+def _first_pass(plan: Plan, ks: Sequence[int]) -> list[tuple[int, dict]]:
+    return plan.first_pass(ks)
+
+
+def _second_pass(plan: Plan, ks: Sequence[int], edges: Mapping[str, np.ndarray]) -> dict:
+    return plan.second_pass(ks, edges)
+
+
 def check_bad(plan: Plan, blocks: Mapping[str, Sequence[dict]]) -> None:
     """Raise, naming the candidate and the count, if any output draw is NaN or infinite."""
     for o, bl in blocks.items():
@@ -168,9 +176,11 @@ def on_dask(plan: Plan, chunks: Any, scheduler: Any, bins: int, progress: Any) -
     rounds = [groups[i : i + ROUND] for i in range(0, len(groups), ROUND)]
     two = 2 if plan.quantiles else 1
     report = Progress(progress, two * len(rounds), title="consequences on Dask")
+    # the plan is one node of each round's graph: sent to a worker once, not once per task
+    shared = dask.delayed(plan, pure=True, traverse=False)
     first: list[tuple[int, dict]] = []
     for i, rnd in enumerate(rounds):
-        tasks = [dask.delayed(plan.first_pass, pure=False)(g) for g in rnd]
+        tasks = [dask.delayed(_first_pass, pure=False)(shared, g) for g in rnd]
         for part in dask.compute(*tasks, scheduler=scheduler):
             first.extend(part)
         report(i + 1, "statistics")
@@ -193,7 +203,7 @@ def on_dask(plan: Plan, chunks: Any, scheduler: Any, bins: int, progress: Any) -
         edges[o] = np.linspace(lo, hi if hi > lo else lo + 1.0, bins + 1)
     counts: dict[str, np.ndarray] = {}
     for i, rnd in enumerate(rounds):
-        tasks = [dask.delayed(plan.second_pass, pure=False)(g, edges) for g in rnd]
+        tasks = [dask.delayed(_second_pass, pure=False)(shared, g, edges) for g in rnd]
         for part in dask.compute(*tasks, scheduler=scheduler):
             for o, h in part.items():
                 counts[o] = h if o not in counts else counts[o] + h
