@@ -54,10 +54,17 @@ def dkw_eps(n: float, *, level: float = 0.95) -> float:
 
 
 def steps_at(xs: np.ndarray, ps: np.ndarray, v: np.ndarray, below: float) -> np.ndarray:
-    """Right-continuous step function with values ``ps`` from ``xs`` on, ``below`` before."""
+    """Right-continuous step function with values ``ps`` from ``xs`` on, ``below`` before.
+
+    Reads ``ps`` where needed (no copy of the table: it may hold 1e8 steps).
+
+    Examples
+    --------
+    >>> steps_at(np.array([1.0, 2.0]), np.array([0.5, 1.0]), np.array([0.0, 1.0, 1.5, 9.0]), 0.0)
+    array([0. , 0.5, 0.5, 1. ])
+    """
     i = np.searchsorted(xs, v, side="right")
-    table = np.concatenate(([below], ps))
-    return table[i]
+    return np.where(i > 0, ps.take(np.maximum(i - 1, 0)), below)
 
 
 def _out(arr: np.ndarray, scalar: bool) -> Any:

@@ -22,8 +22,55 @@ __all__ = ["ECDF"]
 ArrayLike = Any
 
 
+#: jump points turned into ``F`` values per step (no array of ``n`` indices)
+_LEVEL_CHUNK = 1 << 20
+
+
 def _out(arr: np.ndarray, scalar: bool) -> Any:
     return float(arr) if scalar else arr
+
+
+def _unweighted(x: np.ndarray) -> tuple[np.ndarray, np.ndarray, np.ndarray]:
+    """``x`` sorted (``x`` itself if it was: checked with an early exit), its distinct values, F."""
+    owned = not _is_sorted(x)
+    xs = np.sort(x) if owned else x
+    return (xs, *_distinct_levels(xs, owned=owned))
+
+
+def _distinct_levels(xs: np.ndarray, *, owned: bool) -> tuple[np.ndarray, np.ndarray]:
+    """Distinct values of sorted ``xs`` and ``F`` at each: ``(i + 1) / n`` at its last copy ``i``.
+
+    With all values distinct (no ties), the values are ``xs`` itself when the
+    caller ``owned`` the array (a copy otherwise) and ``F`` is ``1/n … n/n``.
+    With ties, both are filled a chunk at a time, so no array of ``n`` flags
+    or indices is made. The arithmetic is the same either way.
+    """
+    n = xs.size
+
+    def last_of_run(start: int) -> np.ndarray:
+        """Whether ``xs[j]`` is the last of its value, for ``j`` in one chunk from ``start``."""
+        stop = min(start + _LEVEL_CHUNK, n)
+        flags = np.empty(stop - start, dtype=bool)
+        np.not_equal(xs[start : stop - 1], xs[start + 1 : stop], out=flags[:-1])
+        flags[-1] = stop == n or bool(xs[stop - 1] != xs[stop])
+        return flags
+
+    chunks = range(0, n, _LEVEL_CHUNK)
+    k = sum(int(np.count_nonzero(last_of_run(start))) for start in chunks)
+    if k == n:
+        p = np.arange(1, n + 1, dtype=float)
+        p /= n
+        return (xs if owned else xs.copy()), p
+    ux = np.empty(k)
+    p = np.empty(k)
+    done = 0
+    for start in chunks:
+        last = np.flatnonzero(last_of_run(start))
+        ux[done : done + last.size] = xs[start + last]
+        last += start + 1
+        np.divide(last, n, out=p[done : done + last.size])
+        done += last.size
+    return ux, p
 
 
 class ECDF:
@@ -80,14 +127,7 @@ class ECDF:
         x, w, c = as_aligned_data(data, weights=weights, censored=censored)
         n = x.size
         if w is None and c is None:
-            # sorted input (checked in one pass) is used as it is, without a copy
-            xs = x if _is_sorted(x) else np.sort(x)
-            new = np.empty(n, dtype=bool)
-            np.not_equal(xs[1:], xs[:-1], out=new[:-1])
-            new[-1] = True
-            last = np.flatnonzero(new)
-            ux = xs[last]
-            p = (last + 1) / n
+            xs, ux, p = _unweighted(x)
             n_eff = float(n)
         else:
             order = np.argsort(x, kind="stable")
@@ -111,6 +151,11 @@ class ECDF:
                 survival[frac >= 1.0] = 0.0
                 ux = ux[keep]
                 p = np.clip(1.0 - survival, 0.0, 1.0)
+        self._set(ux, p, n=n, n_eff=n_eff, censoring=c is not None, data_max=float(xs[-1]))
+
+    def _set(
+        self, ux: Any, p: Any, *, n: int, n_eff: float, censoring: bool, data_max: float
+    ) -> None:
         ux = np.ascontiguousarray(ux, dtype=float)
         p = np.ascontiguousarray(p, dtype=float)
         ux.setflags(write=False)
@@ -119,8 +164,21 @@ class ECDF:
         self._p = p
         self._n = int(n)
         self._n_eff = n_eff
-        self._censoring = c is not None
-        self._data_max = float(xs[-1]) if w is None and c is None else float(x.max())
+        self._censoring = censoring
+        self._data_max = data_max
+
+    @classmethod
+    def _with_sorted(cls, x: np.ndarray) -> tuple[ECDF, np.ndarray]:
+        """The ECDF of ``x`` and ``x`` sorted, from one sort (for the editor's other views).
+
+        ``x`` is data as :func:`as_data` returns them. The sorted array is
+        ``x`` itself when it was sorted, else a new one; with all values
+        distinct it is also :attr:`x` (then read-only). Neither is written to.
+        """
+        xs, ux, p = _unweighted(x)
+        e = cls.__new__(cls)
+        e._set(ux, p, n=xs.size, n_eff=float(xs.size), censoring=False, data_max=float(xs[-1]))
+        return e, xs
 
     def __repr__(self) -> str:
         kind = "Kaplan–Meier" if self._censoring else "ECDF"
@@ -223,8 +281,8 @@ class ECDF:
         """
         v, scalar = probabilities(u, field="u")
         i = np.searchsorted(self._p, v, side="left")
-        table = np.concatenate((self._x, [np.inf]))
-        return _out(table[i], scalar)
+        inside = self._x.take(np.minimum(i, self._x.size - 1))
+        return _out(np.where(i < self._x.size, inside, np.inf), scalar)
 
     def sample(
         self,

@@ -199,23 +199,37 @@ def _float_vector(values: Any, name: str) -> tuple[np.ndarray, np.ndarray | None
     return out, mask
 
 
+#: elements compared per step when checking order (early exit; no array of n flags)
+_ORDER_CHUNK = 1 << 18
+
+
 def _is_sorted(x: np.ndarray) -> bool:
-    """Whether ``x`` is non-decreasing (False when it holds a NaN: comparisons are false)."""
-    return x.size >= 1 and bool(np.all(x[1:] >= x[:-1]))
+    """Whether ``x`` is non-decreasing (False when it holds a NaN: comparisons are false).
 
-
-def _valid_sorted(x: np.ndarray, distinct: int) -> bool:
-    """Fast intake check for sorted data (one pass), or False to take the full path.
-
-    A non-decreasing float array has no NaN (every comparison with NaN is false), keeps any
-    ±inf at its ends, and holds two distinct values exactly when its ends differ.
+    Checked a chunk at a time, so unsorted data are told after the first
+    unsorted chunk and no temporary of ``n`` flags is made.
     """
-    return (
-        x.size >= max(distinct, 1)
-        and _is_sorted(x)
-        and bool(np.isfinite(x[0]) and np.isfinite(x[-1]))
-        and (distinct < 2 or bool(x[0] < x[-1]))
-    )
+    n = x.size
+    if n == 0:
+        return False
+    for start in range(0, n - 1, _ORDER_CHUNK):
+        stop = min(start + _ORDER_CHUNK, n - 1)
+        if not bool(np.all(x[start + 1 : stop + 1] >= x[start:stop])):
+            return False
+    return n > 1 or not bool(np.isnan(x[0]))
+
+
+def _valid_plain(x: np.ndarray, distinct: int) -> bool:
+    """Fast intake check for data without weights or mask (two passes, no temporaries).
+
+    ``min`` and ``max`` propagate NaN and hold any ±inf, so finite ends mean
+    every value is finite; the data hold two distinct values exactly when
+    they differ. False sends the data down the full path (which says what is wrong).
+    """
+    if x.size < max(distinct, 1):
+        return False
+    lo, hi = x.min(), x.max()
+    return bool(np.isfinite(lo) and np.isfinite(hi) and (distinct < 2 or lo < hi))
 
 
 def _censoring(censored: Any, x: np.ndarray, name: str) -> np.ndarray:
@@ -318,7 +332,7 @@ def as_aligned_data(
     if distinct == 1 and isinstance(data, numbers.Real) and not isinstance(data, bool | np.bool_):
         data = [data]  # one observation to score a model on
     x, mask = _float_vector(data, name)
-    if weights is None and censored is None and mask is None and _valid_sorted(x, distinct):
+    if weights is None and censored is None and mask is None and _valid_plain(x, distinct):
         return x, None, None
     w = c = None
     if weights is not None:

@@ -145,7 +145,8 @@ def data_fingerprint(data: Any, *, label: str = "") -> dict[str, Any]:
     (3, 'a68de4b5e96a')
     """
     arr = np.ascontiguousarray(np.asarray(data, dtype="<f8").ravel())
-    out: dict[str, Any] = {"sha256": hashlib.sha256(arr.tobytes()).hexdigest(), "n": int(arr.size)}
+    digest = hashlib.sha256(memoryview(arr)).hexdigest()  # the array's bytes, not a copy
+    out: dict[str, Any] = {"sha256": digest, "n": int(arr.size)}
     if label:
         out["label"] = text(label, field="label", max_len=MAX_NAME_CHARS, error=SpecError)
     return out

@@ -27,10 +27,10 @@ from typing import Any
 
 import numpy as np
 
-from .. import _streams
 from .._validate import number
 from ..empirical import ECDF, as_data
-from ..holdout import holdout_split
+from ..empirical.band import steps_at
+from ..holdout import holdout_subsample
 from ..review.layers import histogram
 from ..sketch import Sketch
 from ..spec import data_fingerprint
@@ -42,7 +42,7 @@ AUTO_KNOTS = 7
 
 #: vertices of the drawn ECDF outline (and of the band); 1/300 tolerance in p
 OUTLINE_POINTS = 1200
-#: held-out points scored on each change; more are subsampled (seeded)
+#: held-out points scored on each change; more are subsampled (by the split's own keys)
 HOLDOUT_LIVE = 5_000
 
 
@@ -59,19 +59,21 @@ class DataView:
         Fraction of the points held out for the live log score (``None`` or 0:
         no holdout score).
     rng : optional
-        Seed of the holdout split (:func:`cdfsketch.holdout.holdout_split`, made once).
+        Seed of the holdout split (:func:`cdfsketch.holdout.holdout_subsample`: up to
+        ``HOLDOUT_LIVE`` of the points :func:`cdfsketch.holdout.holdout_split` holds out).
     """
 
     def __init__(self, data: Any, *, level: float, holdout: float | None, rng: Any) -> None:
         x = as_data(data)
         self.values = x
-        # one sort here: ECDF skips its own sort on sorted input
-        xs = x if bool(np.all(x[1:] >= x[:-1])) else np.sort(x)
-        self.sorted = xs
-        self.ecdf = ECDF(xs)
+        self.n = int(x.size)
+        # one sort for the ECDF, its band and outline, and the histogram
+        self.ecdf, xs = ECDF._with_sorted(x)
+        self.range = (float(xs[0]), float(xs[-1]))
+        self.hist_edges, self.hist_density = histogram(xs, is_sorted=True)
+        del xs  # with ties, the sorted copy is not kept
         self.band = self.ecdf.band(level=level)
         self.level = float(level)
-        self.n = int(x.size)
         out = self.ecdf.steps(max_points=OUTLINE_POINTS)
         self.outline = out
         jx, jp = self.ecdf.x, self.ecdf.p
@@ -80,10 +82,7 @@ class DataView:
         self.kept_p = jp[kept]
         self.kept_p_left = np.where(kept > 0, jp[np.maximum(kept - 1, 0)], 0.0)
         self.tolerance = float(out.tolerance)
-        self._jump_x = jx
-        self._p_below = np.r_[0.0, jp]  # F_n just below each jump point, then F_n at the last
-        self.hist_edges, self.hist_density = histogram(xs, is_sorted=True)
-        # the one holdout split (as compare() makes it), made once
+        # the one holdout split (as compare() makes it): up to HOLDOUT_LIVE of its points
         self.holdout = float(holdout or 0.0)
         self.held: np.ndarray | None = None
         self.held_size = 0
@@ -97,16 +96,15 @@ class DataView:
                 high_open=True,
                 example="holdout=0.3",
             )
-            _train, test = holdout_split(self.n, fraction=self.holdout, rng=rng)
-            if test.size:
-                if test.size > HOLDOUT_LIVE:
-                    gen = _streams.generator(_streams.root_seed(rng), "holdout", "live")
-                    test = gen.choice(test, size=HOLDOUT_LIVE, replace=False)
-                self.held = np.sort(x[test])
-                self.held_size = round(self.holdout * self.n)
-        self.resolution = _resolution(x[:5000], float(xs[-1] - xs[0]))
-        self.floor = 0.0 if xs[0] >= 0 else None
-        self.ceiling = 1.0 if xs[0] >= 0 and xs[-1] <= 1 else None
+            live, held = holdout_subsample(
+                self.n, fraction=self.holdout, size=HOLDOUT_LIVE, rng=rng
+            )
+            if held:
+                self.held = np.sort(x[live])
+                self.held_size = held
+        self.resolution = _resolution(x[:5000], self.range[1] - self.range[0])
+        self.floor = 0.0 if self.range[0] >= 0 else None
+        self.ceiling = 1.0 if self.range[0] >= 0 and self.range[1] <= 1 else None
         self._fingerprint: dict[str, Any] | None = None
 
     @property
@@ -141,7 +139,7 @@ class DataView:
 
     def outside_band(self, sketch: Sketch) -> np.ndarray:
         """Boolean per knot: ``p`` below the band's lower or above its upper edge at ``x``."""
-        f = self._p_below[np.searchsorted(self._jump_x, sketch.x, side="right")]  # F_n(x)
+        f = steps_at(self.ecdf.x, self.ecdf.p, sketch.x, 0.0)  # F_n(x)
         lo = np.maximum(f - self.band.eps, 0.0)
         hi = np.minimum(f + self.band.eps, 1.0)
         return (sketch.p < lo - 1e-12) | (sketch.p > hi + 1e-12)

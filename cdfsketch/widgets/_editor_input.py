@@ -204,12 +204,12 @@ class EditorInput:
         span = float(s.x[-1] - s.x[0]) or 1.0
         d = self._data
         if side == "lower":
-            base = float(s.x[0]) if d is None else min(float(s.x[0]), float(d.sorted[0]))
+            base = float(s.x[0]) if d is None else min(float(s.x[0]), d.range[0])
             limit = base - 0.1 * span
             if d is not None and d.floor is not None and s.x[0] > d.floor:
                 limit = max(limit, d.floor)
             return limit
-        base = float(s.x[-1]) if d is None else max(float(s.x[-1]), float(d.sorted[-1]))
+        base = float(s.x[-1]) if d is None else max(float(s.x[-1]), d.range[1])
         limit = base + 0.1 * span
         if d is not None and d.ceiling is not None and s.x[-1] < d.ceiling:
             limit = min(limit, d.ceiling)

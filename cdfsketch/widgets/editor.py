@@ -184,7 +184,7 @@ class Editor(EditorInput, w.VBox):
         lo = min(float(base.ppf(0.002)), float(base.x[0]), float(s.x[0]))
         hi = max(float(base.ppf(0.998)), float(base.x[-1]), float(s.x[-1]))
         if self._data is not None:
-            lo, hi = min(lo, self._data.sorted[0]), max(hi, self._data.sorted[-1])
+            lo, hi = min(lo, self._data.range[0]), max(hi, self._data.range[1])
         pad = 0.04 * (hi - lo or 1.0)
         return float(lo - pad), float(hi + pad)
 

@@ -376,3 +376,54 @@ def test_steps_bad_options():
         e.steps(tolerance=0)
     with pytest.raises(InputError, match=r"may need up to 40000.*Raise max_points"):
         e.steps(tolerance=1e-4)
+
+
+# ------------------------------------------------------------ one sort, chunked passes
+
+
+@pytest.mark.parametrize("chunk", [1, 3, 64])
+def test_ecdf_chunked_levels_match_statsmodels(chunk, monkeypatch):
+    from statsmodels.distributions.empirical_distribution import ECDF as SmECDF
+
+    import cdfsketch.empirical.ecdf as ecdf_module
+
+    monkeypatch.setattr(ecdf_module, "_LEVEL_CHUNK", chunk)  # runs of ties across chunks
+    rng = np.random.default_rng(21)
+    for data in (rng.integers(0, 30, 500).astype(float), rng.normal(size=257), [2.0, 1, 1, 2]):
+        e = ECDF(data)
+        u = np.unique(data)
+        # source: statsmodels.distributions.empirical_distribution.ECDF (right-continuous)
+        np.testing.assert_allclose(e.p, SmECDF(data)(u), rtol=0, atol=1e-15)
+        np.testing.assert_array_equal(e.x, u)
+        # the same arithmetic as unchunked: (index of the last copy + 1) / n, bit for bit
+        last = np.searchsorted(np.sort(data), u, side="right") - 1
+        np.testing.assert_array_equal(e.p, (last + 1) / len(data))
+
+
+def test_ecdf_of_sorted_input_neither_copies_it_into_place_nor_freezes_it():
+    data = np.sort(np.random.default_rng(3).normal(size=1000))
+    e = ECDF(data)
+    assert data.flags.writeable and not np.shares_memory(e.x, data)
+    e2, xs = ECDF._with_sorted(data)
+    assert xs is data and data.flags.writeable and not np.shares_memory(e2.x, data)
+    shuffled = np.random.default_rng(4).permutation(data)
+    e3, xs3 = ECDF._with_sorted(shuffled)  # sorted once: the ECDF's x is that sorted copy
+    assert np.shares_memory(e3.x, xs3) and not e3.x.flags.writeable
+    np.testing.assert_array_equal(e3.x, data)
+    np.testing.assert_array_equal(e3.p, np.arange(1, 1001) / 1000)  # i/n, exactly
+
+
+@pytest.mark.parametrize("where", [0, 5, 6, 11, 12])
+def test_order_check_by_chunks_sees_every_pair(where, monkeypatch):
+    import cdfsketch.empirical.intake as intake
+
+    monkeypatch.setattr(intake, "_ORDER_CHUNK", 6)
+    x = np.arange(13.0)
+    assert intake._is_sorted(x)
+    y = x.copy()
+    y[where] = 100.0 if where < 12 else -1.0  # out of order at one pair only
+    assert not intake._is_sorted(y)
+    y = x.copy()
+    y[where] = np.nan
+    assert not intake._is_sorted(y)
+    assert not intake._is_sorted(np.array([np.nan])) and not intake._is_sorted(np.zeros(0))

@@ -497,6 +497,18 @@ def test_holdout_log_score_against_scipy_on_the_one_split():
     np.testing.assert_array_equal(ed.data.held, np.sort(x[test]))
 
 
+def test_live_holdout_on_large_data_is_a_subsample_of_the_one_split():
+    from cdfsketch.holdout import holdout_split
+    from cdfsketch.widgets._editor_data import HOLDOUT_LIVE
+
+    x = np.random.default_rng(6).gamma(2.0, 3.0, 3 * HOLDOUT_LIVE)
+    ed = Editor(x, Sketch([0, 10, 80], [0, 0.8, 1]), holdout=0.4, rng=9)
+    _train, test = holdout_split(x.size, fraction=0.4, rng=9)  # what compare() holds out
+    assert ed.data.held.size == HOLDOUT_LIVE < ed.data.held_size == test.size
+    assert np.isin(ed.data.held, x[test]).all() and ed.readout["holdout_subsampled"]
+    assert ed.data.range == (x.min(), x.max()) and x.flags.writeable  # the data untouched
+
+
 def test_automatic_start_is_a_handful_of_knots_with_a_finite_score(hours):
     ed = Editor(hours)
     assert 3 <= len(ed.sketch) <= 7
