@@ -9,7 +9,8 @@ them. The generator below is seeded; ``notebooks/make_demo_data.py`` writes
 the same numbers to ``notebooks/data/pump_repair_hours.csv`` for the notebooks.
 
 The demo walks the path the package serves — data in, automatic start,
-adjusted sketch, comparison with fitted candidates, decision, spec out,
+adjusted sketch, comparison with fitted candidates, whether the choice
+changes a model's answer (an invented repair-cost model), decision, spec out,
 reload and sample in plain Python, review page — and writes exactly two
 files, both named in its output.
 
@@ -36,7 +37,7 @@ import numpy as np
 from ._extras import need
 from ._numfmt import significant
 
-__all__ = ["FILES", "SCENARIO", "SEED", "repair_hours", "run"]
+__all__ = ["FILES", "SCENARIO", "SEED", "repair_cost", "repair_hours", "run"]
 
 SEED = 20261202
 SCENARIO = (
@@ -49,6 +50,21 @@ FILES = ("pump_repair_hours.json", "pump_repair_review.html")
 START_KNOTS = 7
 #: Where the invented repair routes meet (h): the analyst's knots.
 ROUTE_KNOTS = (2.5, 24.0, 48.0)
+#: The invented call-out fee (EUR) of the invented repair-cost model.
+CALL_OUT_FEE = 90.0
+#: Draws per candidate for the repair-cost check.
+COST_DRAWS = 20_000
+
+
+def repair_cost(d: Any) -> dict[str, np.ndarray]:
+    """The INVENTED cost of one repair (EUR): hours at the labour rate, plus the call-out fee.
+
+    Examples
+    --------
+    >>> repair_cost({"hours": np.array([2.0]), "rate": np.array([40.0])})["repair cost"]
+    array([170.])
+    """
+    return {"repair cost": d["hours"] * d["rate"] + CALL_OUT_FEE}
 
 
 def repair_hours(*, rng: Any = SEED, n: int = 64) -> np.ndarray:
@@ -98,6 +114,7 @@ def run(out: Any = "cdfsketch-demo", *, echo: Callable[[str], Any] = print) -> l
     from .fit import fit_candidates
     from .metrics import compare
     from .review import Review, save_html
+    from .sketch import Sketch
     from .tails import BoundedTail, ExponentialTail
 
     need("fit", "scipy")  # before anything is shown or written
@@ -166,6 +183,9 @@ def run(out: Any = "cdfsketch-demo", *, echo: Callable[[str], Any] = print) -> l
         verb = "puts" if len(negative) == 1 else "put"
         reason += f", while {' and '.join(negative)} {verb} repair times below 0 h"
 
+    # does the choice change a model's answer? an invented repair-cost model, run by the
+    # review on every candidate with common random numbers
+    rate = Sketch([38, 45, 60], [0, 0.5, 1], name="labour rate (invented)", units="EUR/h")
     review = Review(
         hours,
         [sketch, *best],
@@ -173,14 +193,29 @@ def run(out: Any = "cdfsketch-demo", *, echo: Callable[[str], Any] = print) -> l
         name="pump repair time (invented)",
         rng=SEED,
         progress=False,
+        model=repair_cost,
+        inputs={"hours": sketch, "rate": rate},
+        vary="hours",
+        size=COST_DRAWS,
+        output_units="EUR",
+        consequence_options={"tolerance": 25.0, "quantiles": (0.5, 0.9)},
     )
-    review.choose(
+    decision = review.choose(
         "sketch",
         by="demo review group (invented)",
         rationale=reason,
     )
     echo("5. Decision: the review group (invented) chose the sketch:")
     for line in textwrap.wrap(f"{reason}.", 87, initial_indent="   ", subsequent_indent="   "):
+        echo(line)
+    verdict = review.consequences.verdicts("sketch")["repair cost"]
+    story = (
+        "Does the choice change a model's answer? An invented repair-cost model (hours × an "
+        f"invented labour rate + a {CALL_OUT_FEE:g} EUR call-out fee), {COST_DRAWS:,} draws "
+        f"per candidate on common random numbers, tolerance 25 EUR: {verdict}. "
+        f"The spec records: {decision['consequences']['statement']}"
+    )
+    for line in textwrap.wrap(story, 87, initial_indent="   ", subsequent_indent="   "):
         echo(line)
 
     from .spec import dump_spec

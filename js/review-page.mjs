@@ -167,6 +167,26 @@ export function significant(v, digits = 4) {
   return Number(s) === 0 || Math.abs(v) < 1e-300 ? "0" : s;
 }
 
+/**
+ * F(x) read off an output curve given as quantiles: xs non-decreasing at probabilities ps.
+ * 0 left of the curve, 1 right of it, linear between neighbouring points; at tied xs
+ * (an atom) the top of the jump.
+ */
+export function curveAt(xs, ps, x) {
+  const n = xs.length;
+  if (!n || x < xs[0]) return 0;
+  if (x >= xs[n - 1]) return 1;
+  let lo = 0;
+  let hi = n - 1;
+  while (hi - lo > 1) {
+    const mid = (lo + hi) >> 1;
+    if (xs[mid] <= x) lo = mid;
+    else hi = mid;
+  }
+  const dx = xs[hi] - xs[lo];
+  return dx > 0 ? ps[lo] + ((ps[hi] - ps[lo]) * (x - xs[lo])) / dx : ps[lo];
+}
+
 // ---------------------------------------------------------------- DOM helpers
 
 function el(doc, tag, attrs = {}, text) {
@@ -209,7 +229,7 @@ function axes(doc, svg, sx, sy, height, label, yLabel, yTicks) {
   for (const t of niceTicks(x0, x1, 7)) {
     const px = sx.map(t);
     g.append(svgEl(doc, "line", { x1: px, x2: px, y1: bottom, y2: bottom + 4, class: "tick" }));
-    g.append(svgEl(doc, "text", { x: px, y: bottom + 16, class: "tick-label", "text-anchor": "middle" }, significant(t, 4)));
+    g.append(svgEl(doc, "text", { x: px, y: bottom + 16, class: "tick-label", "text-anchor": "middle" }, significant(t, 6)));
   }
   for (const t of yTicks) {
     const py = sy.map(t);
@@ -526,6 +546,114 @@ function buildTable(doc, payload, entries) {
   return section;
 }
 
+/** One output's CDF per candidate, in the candidates' own colour, dash and marker. */
+function outcomePlot(doc, o, k) {
+  const [lo, hi] = o.xRange;
+  const h = 260;
+  const id = `outcome-plot-${k}`;
+  const sx = linearScale(lo, hi, MARGIN.left, VIEW_W - MARGIN.right);
+  const sy = linearScale(0, 1, h - MARGIN.bottom, MARGIN.top);
+  const svg = plotSvg(doc, id, h, `The output ${o.name}: its cumulative probability under each candidate`);
+  svg.classList.add("outcome-plot");
+  axes(doc, svg, sx, sy, h, o.axisLabel, "cumulative probability", [0, 0.25, 0.5, 0.75, 1]);
+  const layer = svgEl(doc, "g", { "clip-path": `url(#${id}-clip)` });
+  const order = [...o.curves].sort((a, b) => Number(a.chosen) - Number(b.chosen));
+  for (const c of order) {
+    const g = svgEl(doc, "g", { class: "candidate", "data-candidate": c.index });
+    g.append(svgEl(doc, "title", {}, c.name));
+    g.append(svgEl(doc, "path", {
+      d: pathData(c.x, c.p, sx, sy), class: "curve outcome", stroke: c.colour,
+      "stroke-width": c.chosen ? 3.5 : 1.8, "stroke-dasharray": c.dash, "data-candidate": c.index,
+    }));
+    for (let m = 1; m <= 6; m++) {
+      const x = lo + ((hi - lo) * (m + 0.17 * (c.index % 5))) / 7.5;
+      g.append(svgEl(doc, "path", { d: markerPath(c.marker, sx.map(x), sy.map(curveAt(c.x, c.p, x)), 3.5), class: "marker", fill: c.colour }));
+    }
+    layer.append(g);
+  }
+  svg.append(layer);
+  svg.setAttribute("data-x-domain", `${lo} ${hi}`);
+  svg.setAttribute("data-x-pixels", `${MARGIN.left} ${VIEW_W - MARGIN.right}`);
+  svg.setAttribute("data-y-domain", "0 1");
+  svg.setAttribute("data-y-pixels", `${sy.map(0)} ${sy.map(1)}`);
+  return svg;
+}
+
+/** A figure and its "± se" as unbreakable parts the line may wrap between. */
+function wrappable(doc, cls, parts) {
+  const span = el(doc, "span", { class: cls });
+  parts.forEach((part, i) => {
+    if (i) span.append(doc.createTextNode(" "));
+    span.append(el(doc, "span", { class: "part" }, part));
+  });
+  return span;
+}
+
+/** One output's figures per candidate: value ± se, and under it Δ to the reference ± paired se. */
+function outcomeTable(doc, o, k) {
+  const table = el(doc, "table", { class: "consequence-table", id: `consequence-table-${k}`, "data-output": o.name });
+  const hr = el(doc, "tr");
+  hr.append(el(doc, "th", { class: "name-head" }, "Candidate"));
+  for (const c of o.columns) {
+    const th = el(doc, "th", { title: c.help, "data-column": c.key }, c.label);
+    if (c.unit) th.append(el(doc, "span", { class: "unit" }, `(${c.unit})`));
+    hr.append(th);
+  }
+  hr.append(el(doc, "th", { "data-column": "verdict", title: o.verdictHelp }, "Verdict"));
+  const thead = el(doc, "thead");
+  thead.append(hr);
+  const tbody = el(doc, "tbody");
+  for (const r of o.rows) {
+    const tr = el(doc, "tr", { "data-candidate": r.index, ...(r.chosen ? { class: "chosen" } : {}) });
+    const name = el(doc, "td", { class: "name-cell", "data-column": "name" });
+    name.append(swatch(doc, r, 22), doc.createTextNode(" "), el(doc, "span", { class: "candidate-name" }, r.name));
+    const role = [r.chosen ? "chosen" : "", r.reference ? "reference" : ""].filter(Boolean).join(", ");
+    if (role) name.append(el(doc, "span", { class: "candidate-kind" }, role));
+    tr.append(name);
+    for (const c of o.columns) {
+      const cell = r.cells[c.key];
+      const td = el(doc, "td", { class: "metric", "data-column": c.key });
+      td.append(wrappable(doc, "value", cell.parts));
+      if (cell.diffParts.length) td.append(wrappable(doc, "diff", cell.diffParts));
+      tr.append(td);
+    }
+    tr.append(el(doc, "td", { class: "verdict-cell", "data-column": "verdict" }, r.verdict));
+    tbody.append(tr);
+  }
+  table.append(thead, tbody);
+  return table;
+}
+
+/** Does the choice change the model's answer? Computed numbers and curves only: nothing runs. */
+function buildConsequences(doc, payload) {
+  const c = payload.consequences;
+  if (!c) return null;
+  const section = el(doc, "section", { id: "consequences" });
+  section.append(el(doc, "h2", {}, c.title));
+  section.append(el(doc, "p", { class: "consequence-intro" }, c.intro));
+  c.outputs.forEach((o, k) => {
+    const block = el(doc, "div", { class: "consequence-output", "data-output": o.name });
+    if (c.outputs.length > 1) block.append(el(doc, "h3", {}, o.axisLabel));
+    const verdict = el(doc, "p", { class: "verdict" });
+    verdict.append(el(doc, "strong", {}, o.name), doc.createTextNode(`: ${o.verdict} (${o.toleranceText}).`));
+    const figure = el(doc, "div", { class: "outcome-figure" });
+    const plot = el(doc, "div", { class: "outcome-plot-box" });
+    plot.append(outcomePlot(doc, o, k));
+    const legend = el(doc, "ul", { class: "outcome-legend" });
+    for (const r of o.rows) {
+      const li = el(doc, "li", { "data-candidate": r.index, title: r.name });
+      li.append(swatch(doc, r), doc.createTextNode(" "), el(doc, "span", { class: "candidate-name" }, r.name));
+      if (r.chosen) li.append(el(doc, "span", { class: "chosen-mark" }, " (chosen)"));
+      legend.append(li);
+    }
+    figure.append(plot, legend);
+    block.append(verdict, figure, outcomeTable(doc, o, k));
+    section.append(block);
+  });
+  section.append(el(doc, "p", { class: "table-info" }, c.note));
+  return section;
+}
+
 function buildDecision(doc, payload) {
   const dec = el(doc, "section", { id: "decision" });
   dec.append(el(doc, "h2", {}, "Decision"));
@@ -542,6 +670,7 @@ function buildDecision(doc, payload) {
     ["band level", String(d.level)],
   ];
   if (d.how_written) items.push(["how the spec was written", d.how_written]);
+  if (d.consequences) items.push(["does the choice matter", d.consequences.statement, "decision-consequences"]);
   items.push(["competitors", d.competitors.map((c) => c.name).join(", ") || "none"]);
   dec.append(definitionList(doc, items));
   dec.append(el(doc, "a", { id: "download-spec", download: payload.chosenFile, href: specDataUrl(payload.chosenSpec) }, "Download the chosen spec (JSON)"));
@@ -615,7 +744,10 @@ export function main(doc, payload) {
   area.append(plots, side);
   root.append(area);
   wireToggles(doc, toggles);
-  root.append(buildTable(doc, payload, entries), buildDecision(doc, payload), buildDataSummary(doc, payload), buildNotes(doc, payload));
+  root.append(buildTable(doc, payload, entries));
+  const consequences = buildConsequences(doc, payload);
+  if (consequences) root.append(consequences);
+  root.append(buildDecision(doc, payload), buildDataSummary(doc, payload), buildNotes(doc, payload));
   doc.title = payload.title;
   if (typeof performance !== "undefined" && performance.mark) performance.mark("cdfsketch-review-drawn");
   return { entries, problems, show };

@@ -8,7 +8,7 @@ import sys
 import numpy as np
 
 import cdfsketch
-from cdfsketch.demo import FILES, repair_hours
+from cdfsketch.demo import CALL_OUT_FEE, FILES, repair_cost, repair_hours
 
 
 def test_demo_runs_names_its_files_and_writes_nothing_else(tmp_path):
@@ -39,8 +39,20 @@ def test_demo_runs_names_its_files_and_writes_nothing_else(tmp_path):
     spec = cdfsketch.load(out / FILES[0])
     assert spec.provenance["decision"]["chosen"] == "sketch"
     assert np.isfinite(spec.sample(1000, rng=1)).all()
+    # whether the choice changes an (invented) model's answer travels with the spec
+    checked = spec.provenance["decision"]["consequences"]
+    assert checked["vary"] == "hours" and checked["chosen"] == "sketch"
+    assert "Does the choice change a model's answer?" in story
+    assert "The spec records: We checked that the choice matters by" in " ".join(story.split())
     page = (out / FILES[1]).read_text(encoding="utf-8")
     assert page.startswith("<!DOCTYPE html>") and "invented" in page
+    assert '"consequences": {"title": "Does the choice change the model' in page
+
+
+def test_demo_cost_model_is_the_stated_formula():
+    # hours · rate + the call-out fee, by hand: 2 h · 40 EUR/h + 90 EUR = 170 EUR
+    cost = repair_cost({"hours": np.array([2.0, 0.0]), "rate": np.array([40.0, 55.0])})
+    assert cost["repair cost"].tolist() == [2 * 40 + CALL_OUT_FEE, CALL_OUT_FEE] == [170.0, 90.0]
 
 
 def test_demo_data_are_the_seeded_invented_ones():

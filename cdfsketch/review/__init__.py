@@ -8,6 +8,10 @@
 * ``palette`` (colour, dash, marker per candidate), ``table`` (the comparison
   as a review reads it), ``layers`` (what every view draws; THE histogram
   rule :func:`histogram_bins`), ``texts`` (THE caution).
+* ``consequence_run`` (a :func:`cdfsketch.consequences` result checked
+  against the review, or run on its candidates) and ``consequence_view``
+  (what the board and the page show of it: does the choice change the
+  model's answer?).
 
 :class:`cdfsketch.ReviewBoard` is the notebook view of a :class:`Review`.
 """

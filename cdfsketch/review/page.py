@@ -29,6 +29,7 @@ from .._frozen import thaw
 from .._validate import fail, quote
 from .._version import __version__
 from ._assets import read_asset
+from .consequence_view import consequence_presentation
 from .layers import MAX_SPIKES, data_layers, flags_text, floor_flags, x_range
 from .palette import DASH_ARRAY
 from .record import Review
@@ -92,7 +93,7 @@ def page_payload(review: Review, *, include_data: bool = False) -> dict[str, Any
     stem = _slug(review.name or review.chosen or "") or "chosen"
     return {
         "format": "cdfsketch-review-page",
-        "version": 2,
+        "version": 3,
         "title": review.name or "Review of candidate distributions",
         "name": review.name,
         "units": review.units,
@@ -106,6 +107,7 @@ def page_payload(review: Review, *, include_data: bool = False) -> dict[str, Any
         "candidates": cands,
         "flags": flags_text(floor_flags(review)),
         "table": presentation(review),
+        "consequences": consequence_presentation(review),
         "decision": None if review.decision is None else thaw(review.decision),
         "chosenSpec": review.chosen_spec() if review.decision is not None else None,
         "chosenFile": f"{stem}.spec.json",
@@ -209,7 +211,11 @@ def save_html(review: Review, path: Any, *, include_data: bool = False) -> Path:
     (the legend), hover read-outs of x, p and density, the comparison
     (sortable), flags for mass where the data never go, the decision and
     rationale, the data summary (n, range, SHA-256 digest) and a download of
-    the chosen spec.
+    the chosen spec. With a consequence run it also shows whether the choice
+    changes the model's answer: the output's CDF per candidate (in the
+    candidates' own colours and dashes) and the output figures with their
+    standard errors and verdicts — computed numbers only; the model is not in
+    the page and nothing is run when it opens.
 
     Parameters
     ----------

@@ -5,11 +5,20 @@ scipy through :func:`cdfsketch.fit.compare` when data are given). Every value
 is checked where it enters — candidate names, the review's name and units,
 who decided and why — against the one limit table, so whatever a review
 holds can later be saved. The decision is a read-only record.
+
+A review can also say whether the choice changes the model's answer: give it
+a :func:`cdfsketch.consequences` result over its candidates
+(``consequences=``), or the model and its inputs (``model=``, ``inputs=``,
+``vary=``, ``size=``) to run one on its own candidates. Only the result is
+kept, never the model. Once there is one, a decision also records what the
+run found for the chosen candidate (``decision["consequences"]``, from
+:meth:`~cdfsketch.outcomes.Consequences.decision_record`), and the chosen spec
+carries it in ``provenance.decision``.
 """
 
 from __future__ import annotations
 
-from collections.abc import Iterable, Sequence
+from collections.abc import Callable, Iterable, Mapping, Sequence
 from datetime import UTC, datetime
 from typing import Any
 
@@ -21,8 +30,10 @@ from .._progress import check_progress
 from .._validate import fail, number, quote, text
 from ..empirical import ECDF, as_data
 from ..loading import validate_spec
+from ..outcomes import Consequences
 from ..spec import data_fingerprint
 from .candidates import ReviewCandidate, as_candidate, check_unique
+from .consequence_run import check_result, output_units_for, run_for_review, setup_consequences
 from .palette import Style, style
 from .table import finite_or_none
 
@@ -50,8 +61,28 @@ class Review:
     rng : optional
         Seed for the holdout split and refits (``np.random.default_rng``).
     progress : None, False or callable
-        Progress of scoring the candidates against the data; see
-        :func:`cdfsketch.fit.compare`.
+        Progress of scoring the candidates against the data (see
+        :func:`cdfsketch.fit.compare`) and of a consequence run.
+    consequences : Consequences, optional
+        A :func:`cdfsketch.consequences` result whose candidates carry exactly
+        the review's candidate names (run it with ``names=list(review.names)``
+        or with candidates named alike); see :meth:`attach_consequences`.
+    model : callable, optional
+        The user's vectorised model; with ``inputs``, ``vary`` and ``size`` the
+        review runs :func:`cdfsketch.consequences` on its own candidates, seeded
+        by ``rng`` (see :meth:`run_consequences`).
+    inputs : InputSet or mapping of name to Sketch, optional
+        The model's inputs.
+    vary : str, optional
+        The input the candidates are for.
+    size : int, optional
+        Draws per candidate.
+    consequence_options : mapping, optional
+        Further keywords of :func:`cdfsketch.consequences` (``tolerance``,
+        ``thresholds``, ``quantiles``, ``judge``, ``design``, …).
+    output_units : str or mapping, optional
+        Units of the model's outputs (one for all, or per output); an output
+        named like the varied input has the review's units by default.
 
     Examples
     --------
@@ -65,6 +96,19 @@ class Review:
     ...              when="2026-01-05T10:00:00+00:00")
     >>> r.chosen_spec()["provenance"]["decision"]["chosen"]
     'expert B'
+
+    Whether the choice changes a model's answer (an invented cost model):
+
+    >>> rate = Sketch([50, 70], [0, 1], name="rate", units="EUR/h")
+    >>> r = Review(None, [a, b], units="h", model=lambda d: {"cost": d["hours"] * d["rate"]},
+    ...            inputs={"hours": a, "rate": rate}, vary="hours", size=20_000, rng=1,
+    ...            output_units="EUR", consequence_options={"tolerance": 10.0})
+    >>> r.consequences.verdicts()["cost"]
+    'the choice changes this output by more than the tolerance you set'
+    >>> d = r.choose("expert A", by="review group", rationale="matches the logs")
+    >>> spec = r.chosen_spec()
+    >>> spec["provenance"]["decision"]["consequences"]["largest_difference"]["output"]
+    'cost'
     """
 
     def __init__(
@@ -78,6 +122,13 @@ class Review:
         holdout: float | None = 0.3,
         rng: Any = None,
         progress: Any = None,
+        consequences: Consequences | None = None,
+        model: Callable[[Mapping[str, np.ndarray]], Any] | None = None,
+        inputs: Any = None,
+        vary: str | None = None,
+        size: int | None = None,
+        consequence_options: Mapping[str, Any] | None = None,
+        output_units: str | Mapping[str, str] | None = None,
     ) -> None:
         self.units = text(units, field="units", max_len=MAX_UNITS_CHARS)
         self.name = text(name, field="name", max_len=MAX_NAME_CHARS)
@@ -130,6 +181,13 @@ class Review:
                 row["name"] = c.name
             self._table = table
         self.decision: Any = None
+        self._consequences: Consequences | None = None
+        self._output_units: Any = freeze({})
+        self._progress = progress
+        setup_consequences(
+            self, consequences, model=model, inputs=inputs, vary=vary, size=size, rng=rng,
+            options=consequence_options, output_units=output_units,
+        )  # fmt: skip
 
     # ------------------------------------------------------------ look-ups
     @property
@@ -186,6 +244,91 @@ class Review:
         return self._fingerprint
 
     @property
+    def consequences(self) -> Consequences | None:
+        """The consequence run over the candidates (a read-only result), or None."""
+        return self._consequences
+
+    @property
+    def output_units(self) -> Any:
+        """Output → its units (read-only; empty without a consequence run)."""
+        return self._output_units
+
+    def attach_consequences(self, result: Consequences, *, output_units: Any = None) -> Any:
+        """Keep a :func:`cdfsketch.consequences` result over this review's candidates.
+
+        Parameters
+        ----------
+        result : Consequences
+            Its candidates must carry exactly the review's names (order free).
+        output_units : str or mapping, optional
+            Units of the outputs (one for all, or output → units).
+
+        Returns
+        -------
+        Consequences
+            ``result``. A decision already recorded gains the run's record.
+        """
+        checked = check_result(result, self.names)
+        self._output_units = output_units_for(output_units, checked, self.units)
+        self._consequences = checked
+        if self.decision is not None:
+            self.decision = freeze(
+                {**self.decision, "consequences": checked.decision_record(self.decision["chosen"])}
+            )
+        return checked
+
+    def run_consequences(
+        self,
+        model: Callable[[Mapping[str, np.ndarray]], Any] | None,
+        inputs: Any,
+        *,
+        vary: str,
+        size: int,
+        rng: Any = None,
+        output_units: Any = None,
+        **options: Any,
+    ) -> Any:
+        """Run :func:`cdfsketch.consequences` on this review's candidates and keep the result.
+
+        Each candidate goes through the model as its sketch form (what a
+        decision writes as the spec), under its review name.
+
+        Parameters
+        ----------
+        model : callable or None
+            The vectorised model (None: the output is the varied input itself).
+        inputs : InputSet or mapping of name to Sketch
+            The model's inputs.
+        vary : str
+            The input the candidates are for.
+        size : int
+            Draws per candidate.
+        rng : optional
+            The root of the run's streams (``np.random.default_rng`` takes it).
+        output_units : str or mapping, optional
+            Units of the outputs.
+        **options
+            Further keywords of :func:`cdfsketch.consequences` (``tolerance``,
+            ``thresholds``, ``quantiles``, ``judge``, ``design``, …).
+
+        Returns
+        -------
+        Consequences
+        """
+        result = run_for_review(
+            model,
+            inputs,
+            candidates=[c.sketch for c in self.candidates],
+            names=self.names,
+            vary=vary,
+            size=size,
+            rng=rng,
+            progress=self._progress,
+            options=options,
+        )
+        return self.attach_consequences(result, output_units=output_units)
+
+    @property
     def chosen(self) -> str | None:
         """Name of the chosen candidate, or None."""
         return None if self.decision is None else self.decision["chosen"]
@@ -201,6 +344,11 @@ class Review:
         self, name: str, *, by: str, rationale: str, when: str | datetime | None = None
     ) -> Any:
         """Record that the group chose ``name``, who decided, when and why.
+
+        With a consequence run, the decision also keeps what it found for
+        ``name`` (``decision["consequences"]``: the chosen candidate's output
+        figures, the largest difference to another candidate and the sentence
+        "We checked that the choice matters by X on output Y …").
 
         Parameters
         ----------
@@ -233,6 +381,9 @@ class Review:
         if self._table is None:
             for item, c in zip(competitors, others, strict=True):
                 item["kind"] = c.kind
+        checked: dict[str, Any] = {}
+        if self._consequences is not None:
+            checked["consequences"] = self._consequences.decision_record(name)
         self.decision = freeze(
             {
                 "chosen": name,
@@ -245,6 +396,7 @@ class Review:
                 "metrics": self._metrics(name),
                 "competitors": competitors,
                 "how_written": chosen.note,
+                **checked,
             }
         )
         return self.decision
@@ -255,8 +407,9 @@ class Review:
         A fit is written as its sketch form, the resampled data as its exact
         step CDF. The spec's name is the review's ``name`` (else the
         candidate's), its units the review's (else the candidate's);
-        ``provenance.data`` is the data's fingerprint. The spec passes
-        :func:`cdfsketch.validate_spec`.
+        ``provenance.data`` is the data's fingerprint; with a consequence run,
+        ``provenance.decision.consequences`` says what the choice changes on
+        the model's outputs. The spec passes :func:`cdfsketch.validate_spec`.
         """
         if self.decision is None:
             raise fail(

@@ -12,7 +12,11 @@ a review meeting asks of each candidate:
   observation, against the ``1/(n+1)`` the data themselves suggest);
 * how many parameters were estimated from the data.
 
-Each number is shown to 3 significant digits with its unit and its direction,
+Each number is shown to 3 significant digits with its unit and its direction
+(a distance or an error below :data:`NOISE` times its column's scale — the
+largest value in the column, or the band's half-width — is floating-point
+rounding, e.g. the resampled data's KS distance to its own ECDF, and is shown
+as 0; the raw value stays in ``to_pandas()`` and the CSV),
 and as a dot on a scale shared by the rows, so the order is seen at a glance
 (distances from zero; held-out errors over their span; tail chances in log10,
 since they range over orders of magnitude).
@@ -31,7 +35,7 @@ import numpy as np
 from .._numfmt import significant
 from .palette import DASH_ARRAY
 
-__all__ = ["QUESTIONS", "presentation", "sort_rows", "table_html"]
+__all__ = ["NOISE", "QUESTIONS", "presentation", "shown_value", "sort_rows", "table_html"]
 
 #: The questions, in order: key, label, direction, what it is.
 QUESTIONS = (
@@ -69,6 +73,21 @@ QUESTIONS = (
 _SCALES = {"close": "zero", "predict": "span", "tail": "log", "params": "zero"}
 #: Smallest probability placed on the log scale (smaller ones sit at its left end).
 _LOG_FLOOR = 1e-5
+#: A distance or error below this fraction of its column's scale is shown as 0 (rounding).
+NOISE = 1e-9
+#: The questions whose values are distances or errors (exactly 0 is attainable).
+_NOISY = ("close", "predict")
+
+
+def shown_value(v: float, scale: float) -> str:
+    """A distance or error to 3 significant digits; below ``NOISE · scale`` it is 0.
+
+    Examples
+    --------
+    >>> shown_value(8.673617379884035e-19, 0.136), shown_value(0.0123456, 0.136)
+    ('0', '0.0123')
+    """
+    return "0" if abs(v) < NOISE * scale else significant(v, 3)
 
 
 def _t(v: float, kind: str) -> float:
@@ -151,6 +170,10 @@ def presentation(review: Any) -> dict[str, Any] | None:
                 else {"pos": _pos(ref, scales[key]), "text": ref_text[key]},
             }
         )
+    noise_scale = {
+        k: max([abs(v) for v in values[k] if v is not None and math.isfinite(v)] + [refs[k] or 0.0])
+        for k in _NOISY
+    }
     rows = []
     for i, c in enumerate(review.candidates):
         cells = {}
@@ -162,6 +185,8 @@ def presentation(review: Any) -> dict[str, Any] | None:
                 shown = significant(100 * v, 3) if v is not None else "–"
             elif key == "params":
                 shown = str(int(v)) if v is not None else "–"
+            elif v is not None and math.isfinite(v):
+                shown = shown_value(v, noise_scale[key])
             else:
                 shown = significant(v, 3)
             cells[key] = {

@@ -10,7 +10,8 @@ over the histogram, atoms as spikes) take the width; beside them (below them
 on a narrow screen) a column holds the legend — one toggle per candidate with
 its colour, dash and marker, plus the data layers — and the read-out, so the
 values under the pointer are seen next to the curves. Beneath: flags, the
-comparison, the decision form, the caution.
+comparison, whether the choice changes the model's answer (with a consequence
+run; :mod:`._review_outcome`), the decision form, the caution.
 
 Hover needs no click: an invisible strip of bars over each panel reports the
 bar under the pointer, so the read-out follows the mouse (to 1/240 of the
@@ -46,6 +47,8 @@ from ..review.page import save_html
 from ..review.record import Review
 from ..review.table import QUESTIONS, presentation, table_html
 from ..review.texts import CAUTION
+from ._review_outcome import BQ_DASH, BQ_MARKER, ConsequenceSection
+from ._review_outcome import swatch as _swatch
 
 __all__ = ["ReviewBoard"]
 
@@ -56,21 +59,9 @@ _MARGIN = {"top": 16, "bottom": 42, "left": 62, "right": 56}
 #: Bars in the invisible hover strip (the read-out's x resolution: range / this).
 HOVER_BARS = 240
 _SIDE_WIDTH = "280px"
-_BQ_DASH = {"solid": "solid", "dashed": "dashed", "dotted": "dotted", "dash-dot": "dash_dotted"}
-_BQ_MARKER = {"circle": "circle", "square": "square", "triangle-up": "triangle-up",
-              "diamond": "diamond", "cross": "cross", "triangle-down": "triangle-down",
-              "star": "plus"}  # fmt: skip
 
 
-def _swatch(colour: str, dash: str, width: int = 26) -> str:
-    return (
-        f'<svg width="{width}" height="10" aria-hidden="true" style="vertical-align:middle">'
-        f'<line x1="1" x2="{width - 1}" y1="5" y2="5" stroke="{colour}" stroke-width="3" '
-        f'stroke-dasharray="{palette.DASH_ARRAY[dash]}"/></svg>'
-    )
-
-
-class ReviewBoard(widgets.VBox):
+class ReviewBoard(ConsequenceSection, widgets.VBox):
     """Overlay candidates for one input, compare them, and record the decision.
 
     Parameters
@@ -93,6 +84,11 @@ class ReviewBoard(widgets.VBox):
     progress : None, False or callable
         Progress of scoring the candidates against the data; see
         :func:`cdfsketch.fit.compare`.
+    consequences, model, inputs, vary, size, consequence_options, output_units
+        Whether the choice changes the model's answer: a finished
+        :func:`cdfsketch.consequences` run, or what the review needs to run
+        one; see :class:`cdfsketch.review.Review`. The board then shows the
+        output's CDF per candidate and the table of output figures.
 
     Examples
     --------
@@ -116,10 +112,18 @@ class ReviewBoard(widgets.VBox):
         holdout: float | None = 0.3,
         rng: Any = None,
         progress: Any = None,
+        consequences: Any = None,
+        model: Any = None,
+        inputs: Any = None,
+        vary: str | None = None,
+        size: int | None = None,
+        consequence_options: Any = None,
+        output_units: Any = None,
     ) -> None:
         self._review = Review(
             data, candidates, level=level, units=units, name=name, holdout=holdout, rng=rng,
-            progress=progress,
+            progress=progress, consequences=consequences, model=model, inputs=inputs, vary=vary,
+            size=size, consequence_options=consequence_options, output_units=output_units,
         )  # fmt: skip
         r = self._review
         self._lo, self._hi = x_range(r)
@@ -131,6 +135,7 @@ class ReviewBoard(widgets.VBox):
         self._build_side()
         self._build_table()
         self._build_decision()
+        self._build_outcome()
         self._restyle()
         self._show_table()
         self._show_decision()
@@ -151,7 +156,7 @@ class ReviewBoard(widgets.VBox):
         )
         self.flags_view = widgets.HTML(self._flags_html())
         super().__init__(
-            [head, self.flags_view, main, *self._table_box, *self._decision_box],
+            [head, self.flags_view, main, *self._table_box, self.outcome_box, *self._decision_box],
             layout={"width": "100%", "max_width": "1400px"},
         )
         self.add_class("cdfsketch-review")
@@ -356,6 +361,7 @@ class ReviewBoard(widgets.VBox):
         self._restyle()
         self._show_table()
         self._show_decision()
+        self._show_outcome()
         return decision
 
     def chosen_spec(self) -> dict[str, Any]:
@@ -440,11 +446,11 @@ class ReviewBoard(widgets.VBox):
                     with marks[c.name].hold_sync():
                         marks[c.name].colors = [st.colour]
                         marks[c.name].stroke_width = width
-                        marks[c.name].line_style = _BQ_DASH[st.dash]
+                        marks[c.name].line_style = BQ_DASH[st.dash]
             sc = self.markers[c.name]
             with sc.hold_sync():
                 sc.colors = [st.colour]
-                sc.marker = _BQ_MARKER[st.marker]
+                sc.marker = BQ_MARKER[st.marker]
             if c.name in self.spikes:
                 self.spikes[c.name].colors = [st.colour]
             mark = " <b>(chosen)</b>" if chosen else ""
@@ -456,7 +462,8 @@ class ReviewBoard(widgets.VBox):
 
     def _on_toggle(self, _change: dict[str, Any]) -> None:
         for name, box in self.toggles.items():
-            for marks in (self.cdf_lines, self.pdf_lines, self.spikes, self.markers):
+            for marks in (self.cdf_lines, self.pdf_lines, self.spikes, self.markers,
+                          self.outcome_lines, self.outcome_markers):  # fmt: skip
                 if name in marks:
                     marks[name].visible = box.value
 

@@ -7,6 +7,7 @@ import { test } from "node:test";
 import { readSpec } from "../spec-reader.mjs";
 import {
   cdfPolyline,
+  curveAt,
   formatG,
   linearScale,
   markerPath,
@@ -141,4 +142,20 @@ test("the spec download URL holds the spec as JSON", () => {
   const back = JSON.parse(decodeURIComponent(url.slice(url.indexOf(",") + 1)));
   assert.deepEqual(back, spec);
   assert.equal(readSpec(back).name, spec.name);
+});
+
+test("curveAt reads F(x) off an output curve given as quantiles", () => {
+  // a uniform output on [10, 20] as 5 quantiles: F(x) = (x - 10) / 10 (hand-computed)
+  const xs = [10, 12.5, 15, 17.5, 20];
+  const ps = [0, 0.25, 0.5, 0.75, 1];
+  assert.equal(curveAt(xs, ps, 9.99), 0);
+  assert.equal(curveAt(xs, ps, 15), 0.5);
+  assert.equal(curveAt(xs, ps, 16), 0.6);
+  assert.equal(curveAt(xs, ps, 20), 1);
+  assert.equal(curveAt(xs, ps, 25), 1);
+  // an atom at 3 (tied quantiles): the top of the jump at 3, the bottom just left of it
+  const ax = [1, 3, 3, 3, 5];
+  assert.equal(curveAt(ax, ps, 3), 0.75);
+  assert.ok(Math.abs(curveAt(ax, ps, 2.999) - (0.25 * 1.999) / 2) < 1e-12);
+  assert.equal(curveAt([], [], 1), 0);
 });

@@ -27,8 +27,15 @@ BOARD_CELLS = [
     "pooled = cdfsketch.pool([a, b], name='linear pool of the two experts')\n"
     "fits = fit_candidates(hours, families=['gamma', 'lognormal', 'weibull', 'normal'],\n"
     "                      mixtures=[2], kde=True, rng=1, progress=False)\n"
+    "rate = Sketch([55, 68, 90], [0, 0.5, 1], name='labour rate (invented)', units='EUR/h')\n"
+    "def cost(d):  # an invented cost model\n"
+    "    return {'cost': d['hours'] * d['rate']}\n"
     "board = cdfsketch.ReviewBoard(hours, [a, b, pooled, *fits, ECDF(hours)], units='h',\n"
-    "                              name='pump repair time (invented)', rng=1, progress=False)\n"
+    "                              name='pump repair time (invented)', rng=1, progress=False,\n"
+    "                              model=cost, inputs={'hours': a, 'rate': rate}, vary='hours',\n"
+    "                              size=20_000, output_units='EUR',\n"
+    "                              consequence_options={'tolerance': 25.0,\n"
+    "                                                   'thresholds': [1500, 3000]})\n"
     "board.choose('gamma', by='review group (invented)', rationale='closest held-out error')\n"
     "board",
 ]

@@ -13,12 +13,12 @@ from ._review_helpers import overlaps, review_lab_fixture, shot  # noqa: F401  (
 
 pytestmark = pytest.mark.browser
 
-PLOTS = ".cdfsketch-review-cdf, .cdfsketch-review-pdf"
+PLOTS = ".cdfsketch-review-cdf, .cdfsketch-review-pdf, .cdfsketch-review-outcome"
 CONTROLS = (
     ", ".join(
         f".cdfsketch-review {c}" for c in ("input", "button", "select", "textarea", ".widget-html")
     )
-    + ", .cdfsketch-review-side, .cdfsketch-review-table"
+    + ", .cdfsketch-review-side, .cdfsketch-review-table, .cdfsketch-review-outcome-table"
 )
 
 
@@ -44,6 +44,21 @@ def test_board_layout(review_lab, size: tuple[int, int]) -> None:
     assert widths["table"] <= widths["box"] + 1, widths  # the comparison fits, no scrolling
     assert widths["scroll"] <= widths["box"] + 1, widths
     assert widths["board"] <= widths["boardBox"] + 1, widths
+    # the consequence table fits too (issue 12), and its figure stays in its column
+    outcome = page.evaluate(
+        """() => {
+          const t = document.querySelector('.cdfsketch-review-outcome-table');
+          const f = document.querySelector('.cdfsketch-review-outcome');
+          return {table: t.querySelector('table').getBoundingClientRect().width,
+                  box: t.clientWidth, scroll: t.scrollWidth,
+                  fig: f.getBoundingClientRect().right,
+                  col: f.parentElement.getBoundingClientRect().right};
+        }"""
+    )
+    assert outcome["table"] <= outcome["box"] + 1, outcome
+    assert outcome["scroll"] <= outcome["box"] + 1, outcome
+    assert outcome["fig"] <= outcome["col"] + 1, outcome
+    assert page.locator(".cdfsketch-review-outcome .curve .line").count() >= 9
     # each plot fits its column (nothing clipped at the right edge)
     for fig in (".cdfsketch-review-cdf", ".cdfsketch-review-pdf"):
         fit = page.evaluate(
@@ -60,6 +75,8 @@ def test_board_layout(review_lab, size: tuple[int, int]) -> None:
     shot(page, f"board-{size[0]}x{size[1]}.png")
     page.locator(".cdfsketch-review-table").first.scroll_into_view_if_needed()
     shot(page, f"board-{size[0]}x{size[1]}-table.png")
+    page.locator(".cdfsketch-review-consequences").first.scroll_into_view_if_needed()
+    shot(page, f"board-{size[0]}x{size[1]}-consequences.png")
 
 
 def test_hover_updates_readout_without_a_click(review_lab) -> None:

@@ -383,3 +383,121 @@ def test_layout_at_screen_sizes(context, page_file: Path, size: tuple[int, int])
         o.check_clean()
     finally:
         o.close()
+
+
+# ---------------------------------------------------------------- does the choice matter?
+
+
+class _Tariff:
+    """An invented model: revenue = flow · price (EUR), counting its calls."""
+
+    def __init__(self) -> None:
+        self.calls = 0
+
+    def __call__(self, d):
+        self.calls += 1
+        invented_tariff_token_5309 = 1.0  # this model's code must never reach the page
+        return {"revenue": d["flow"] * d["price"] * invented_tariff_token_5309}
+
+
+@pytest.fixture(scope="module")
+def outcome(nile: np.ndarray, tmp_path_factory: pytest.TempPathFactory):
+    from cdfsketch import Sketch
+    from cdfsketch.fit import fit_candidates
+
+    a = from_quantiles({0.1: 650, 0.5: 880, 0.9: 1150}, name="expert A", lower=400)
+    b = from_quantiles({0.05: 600, 0.5: 930, 0.95: 1250}, name=HOSTILE[0], interpolation="pchip")
+    fits = fit_candidates(nile, families=["normal", "gamma"], mixtures=[], kde=False, rng=0)
+    price = Sketch([2, 3], [0, 1], name="price (invented)")
+    model = _Tariff()
+    r = Review(
+        nile, [a, b, *fits, ECDF(nile)], units="1e8 m3", name="Nile flow", rng=0,
+        model=model, inputs={"flow": a, "price": price}, vary="flow", size=20_000,
+        output_units="EUR",
+        consequence_options={"tolerance": 20.0, "thresholds": [2000, 2500]},
+    )  # fmt: skip
+    r.choose("normal", by="review group (invented)", rationale=RATIONALE)
+    path = save_html(r, tmp_path_factory.mktemp("outcome-page") / "review.html")
+    return r, model, path
+
+
+def test_consequence_section_draws_the_run(context, outcome) -> None:
+    from cdfsketch.review import CAUTION
+    from cdfsketch.review.consequence_view import TITLE, consequence_presentation
+
+    review, model, path = outcome
+    calls = model.calls
+    o = Opened(context, path)
+    try:
+        page = o.page
+        assert "invented_tariff_token_5309" not in page.content()  # numbers only, no code
+        assert page.locator("#consequences h2").text_content() == TITLE
+        assert page.locator("#caution").text_content() == CAUTION  # the caution still shows
+        res = review.consequences
+        pres = consequence_presentation(review)["outputs"][0]
+        curves = res.output_curves(points=201, output="revenue")
+        svg = page.locator("#outcome-plot-0")
+        lo, hi = (float(v) for v in svg.get_attribute("data-x-domain").split())
+        left, right = (float(v) for v in svg.get_attribute("data-x-pixels").split())
+        bottom, top = (float(v) for v in svg.get_attribute("data-y-pixels").split())
+        assert [lo, hi] == pres["xRange"]
+        for i, name in enumerate(review.names):
+            out = page.locator(f'path.curve.outcome[data-candidate="{i}"]')
+            v = _vertices(out.get_attribute("d"))
+            # back to data units; the tolerance is the 0.01-px rounding of the path
+            x = lo + (v[:, 0] - left) / (right - left) * (hi - lo)
+            p = (bottom - v[:, 1]) / (bottom - top)
+            dx = 1.01 * 0.005 / (right - left) * (hi - lo)
+            dp = 1.01 * 0.005 / (bottom - top)
+            np.testing.assert_allclose(x, curves[name]["x"], rtol=0, atol=dx)
+            np.testing.assert_allclose(p, curves[name]["p"], rtol=0, atol=dp)
+            # the same colour and dash pattern as the candidate's CDF in the input panel
+            cdf = page.locator(f'path.curve.cdf[data-candidate="{i}"]')
+            for attr in ("stroke", "stroke-dasharray", "stroke-width"):
+                assert out.get_attribute(attr) == cdf.get_attribute(attr), (name, attr)
+            row = page.locator(f'#consequence-table-0 tr[data-candidate="{i}"]')
+            want = pres["rows"][i]
+            assert row.locator(".candidate-name").text_content() == name
+            for col in pres["columns"]:
+                cell = row.locator(f'td[data-column="{col["key"]}"]')
+                assert cell.locator(".value").text_content() == want["cells"][col["key"]]["text"]
+                diff = want["cells"][col["key"]]["diffText"]
+                assert cell.locator(".diff").count() == (1 if diff else 0)
+                if diff:
+                    assert cell.locator(".diff").text_content() == diff
+            assert row.locator('td[data-column="verdict"]').text_content() == want["verdict"]
+        verdict = page.locator("#consequences .verdict").text_content()
+        assert res.verdicts("normal")["revenue"] in verdict
+        statement = review.decision["consequences"]["statement"]
+        assert page.locator("#decision-consequences").text_content() == statement
+        # a toggle hides the candidate's output curve too
+        page.locator('#toggles input[data-candidate="0"]').uncheck()
+        assert page.locator('path.curve.outcome[data-candidate="0"]').is_hidden()
+        o.check_clean()
+    finally:
+        o.close()
+    assert model.calls == calls  # opening the page ran nothing
+
+
+@pytest.mark.parametrize("size", [(1400, 900), (1000, 700)])
+def test_consequence_table_fits_without_scrolling(context, outcome, size) -> None:
+    o = Opened(context, outcome[2])
+    try:
+        page = o.page
+        page.set_viewport_size({"width": size[0], "height": size[1]})
+        page.wait_for_timeout(100)
+        widths = page.evaluate(
+            """() => ({doc: document.documentElement.scrollWidth, view: innerWidth,
+                       table: document.querySelector('#consequence-table-0').scrollWidth,
+                       box: document.querySelector('#consequences').clientWidth})"""
+        )
+        assert widths["doc"] <= widths["view"], widths
+        assert widths["table"] <= widths["box"], widths
+        # 3 quantiles and 2 thresholds: the widest default table still has every column
+        assert page.locator("#consequence-table-0 thead th").count() == 1 + 7 + 1
+        assert overlaps(page, "svg.outcome-plot", _CONTROLS + ", .outcome-legend") == []
+        page.locator("#consequences").scroll_into_view_if_needed()
+        shot(page, f"page-consequences-{size[0]}x{size[1]}.png")
+        o.check_clean()
+    finally:
+        o.close()
