@@ -16,7 +16,7 @@ from typing import Any
 import numpy as np
 
 from .._frozen import freeze, thaw
-from .._numfmt import significant
+from .._numfmt import figure
 from .._validate import fail, quote
 from .verdict import judge, overall, sentence
 
@@ -350,8 +350,8 @@ class Consequences:
             best.pop("_scaled")
             record["largest_difference"] = best
             record["statement"] = (
-                f"We checked that the choice matters by {significant(best['difference'])} "
-                f"(± {significant(best['se'])}) on output {best['output']!r} ({best['statistic']}, "
+                f"We checked that the choice matters by {figure(best['difference'])} "
+                f"(± {figure(best['se'])}) on output {best['output']!r} ({best['statistic']}, "
                 f"{best['candidate']!r} minus the chosen {self.candidates[r]!r}; {self.size} "
                 f"draws, common random numbers): {best['verdict']}."
             )
