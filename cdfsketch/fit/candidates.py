@@ -91,10 +91,19 @@ def fit_candidates(
 
     Notes
     -----
-    Large samples: the mixture's starts use a 5000-point subsample, the KDE
-    uses linear binning above 2000 points, the triangular law's end search
-    uses at most 20 000 order statistics; all fits' final parameters and
-    log-likelihoods use every point.
+    Large samples: the mixture's EM runs on linearly binned data above 5000
+    points, the KDE uses linear binning above 2000 points, the triangular
+    law's end search uses at most 20 000 order statistics; all fits' final
+    parameters and log-likelihoods use every point.
+
+    Memory: every fit uses every point, but its sums over the data run in
+    blocks of 2^18 points (log-likelihoods, the Gumbel and Weibull likelihood
+    equations, the triangular profile, the binning), so a fit holds at most a
+    few copies of the data (scipy's own ``gumbel_r.fit`` holds about seven).
+    Adding block sums instead of summing once changes results only by
+    rounding: on data of at most 2^18 points nothing changes, and on more
+    the parameters agree with scipy's fit on the whole array to a relative
+    1e-12 (``tests/judging/test_fit.py``).
 
     Examples
     --------

@@ -23,8 +23,9 @@ import numpy as np
 from .._extras import need
 from .._validate import DataError, choice, fail, first_bad, quote
 from ..empirical import as_data
+from ._blockwise import gumbel_ml, triangular_profile
 from .candidate import Candidate
-from .engines import ScipyEngine
+from .engines import ScipyEngine, sum_in_blocks
 
 __all__ = ["FAMILIES", "REGISTRY", "Family", "fit_family"]
 
@@ -60,7 +61,8 @@ def _fit_gamma(x: np.ndarray, _b: Bounds) -> Fitted:
 
 
 def _fit_weibull(x: np.ndarray, _b: Bounds) -> Fitted:
-    gl, gs = _stats().gumbel_r.fit(-np.log(x))
+    y = np.log(x)
+    gl, gs = gumbel_ml(np.negative(y, out=y))
     params = {"c": 1.0 / gs, "loc": 0.0, "scale": math.exp(-gl)}
     return params, 2, "loc fixed at 0; fitted as -log X ~ gumbel_r"
 
@@ -75,7 +77,7 @@ def _fit_logistic(x: np.ndarray, _b: Bounds) -> Fitted:
 
 
 def _fit_gumbel(x: np.ndarray, _b: Bounds) -> Fitted:
-    loc, scale = _stats().gumbel_r.fit(x)
+    loc, scale = gumbel_ml(x)
     return {"loc": loc, "scale": scale}, 2, "gumbel_r (right-skewed)"
 
 
@@ -104,38 +106,13 @@ def _fit_uniform(x: np.ndarray, bnd: Bounds) -> Fitted:
     )
 
 
-def _triangular_profile(xs: np.ndarray, a: float, b: float) -> tuple[float, float]:
-    """Best mode and log-likelihood of a triangular law on ``[a, b]`` (sorted ``xs``).
-
-    The MLE of the mode is one of the observations or an end (Oliver 1972,
-    from memory), so all of them are tried at once with cumulative sums.
-    """
-    n = xs.size
-    with np.errstate(divide="ignore", invalid="ignore"):
-        la = np.log(xs - a)
-        lb = np.log(b - xs)
-    s1 = np.concatenate(([0.0], np.cumsum(la)))  # Σ_{i<k} log(x_i - a)
-    s2 = np.concatenate((np.cumsum(lb[::-1])[::-1], [0.0]))  # Σ_{i≥k} log(b - x_i)
-    cand = np.concatenate(([a], xs, [b]))
-    k_lt = np.searchsorted(xs, cand, side="left")  # points strictly below c
-    with np.errstate(divide="ignore", invalid="ignore"):
-        ll = (
-            n * math.log(2.0 / (b - a))
-            + np.where(k_lt > 0, s1[k_lt] - k_lt * np.log(cand - a), 0.0)
-            + np.where(k_lt < n, s2[k_lt] - (n - k_lt) * np.log(b - cand), 0.0)
-        )
-    ll = np.where(np.isnan(ll), -np.inf, ll)
-    j = int(np.argmax(ll))
-    return float(cand[j]), float(ll[j])
-
-
 def _fit_triangular(x: np.ndarray, bounds: tuple[float, float] | None) -> tuple[dict, int, str]:
     minimize = need("fit", "scipy.optimize").minimize
 
     xs = np.sort(x)
     if bounds is not None:
         a, b = bounds
-        c, _ = _triangular_profile(xs, a, b)
+        c, _ = triangular_profile(xs, a, b)
         params = {"c": (c - a) / (b - a), "loc": a, "scale": b - a}
         return params, 1, f"ends fixed at bounds ({a:g}, {b:g}); mode by ML"
     lo, hi = float(xs[0]), float(xs[-1])
@@ -145,11 +122,11 @@ def _fit_triangular(x: np.ndarray, bounds: tuple[float, float] | None) -> tuple[
 
     def negll(t: np.ndarray) -> float:
         a, b = lo - r * math.exp(t[0]), hi + r * math.exp(t[1])
-        return -_triangular_profile(sub, a, b)[1]
+        return -triangular_profile(sub, a, b)[1]
 
     res = minimize(negll, np.array([-3.0, -3.0]), method="Nelder-Mead", options={"xatol": 1e-5})
     a, b = lo - r * math.exp(res.x[0]), hi + r * math.exp(res.x[1])
-    c, _ = _triangular_profile(xs, a, b)
+    c, _ = triangular_profile(xs, a, b)
     note = "ends and mode by ML (profile likelihood over the ends, mode at an observation)"
     if sub.size < xs.size:
         note += f"; ends searched on {sub.size} evenly spaced order statistics"
@@ -267,7 +244,7 @@ def not_applicable(family: str, x: np.ndarray, bnd: Bounds) -> str | None:
 
 def scale_of(x: np.ndarray) -> float:
     """A power of two bringing the data's magnitude near 1, or 1 when it is moderate."""
-    top = float(np.max(np.abs(x)))
+    top = max(abs(float(np.min(x))), abs(float(np.max(x))))
     if 1e-100 <= top <= 1e100:
         return 1.0
     return math.ldexp(1.0, math.frexp(top)[1])
@@ -287,7 +264,7 @@ def fit_registered(family: str, x: np.ndarray, bnd: Bounds) -> Candidate:
             value=family,
         )
     s = scale_of(x)
-    z = x / s
+    z = x if s == 1.0 else x / s
     bz = None if bnd is None else (bnd[0] / s, bnd[1] / s)
     with np.errstate(all="ignore"):
         params, k, note = fam.fit(z, bz)
@@ -310,7 +287,7 @@ def fit_registered(family: str, x: np.ndarray, bnd: Bounds) -> Candidate:
     extra = (params["loc"] + params["c"] * params["scale"],) if family == "triangular" else ()
     engine = ScipyEngine(dist, extra)
     with np.errstate(all="ignore"):
-        loglik = float(np.sum(dist.logpdf(x)))
+        loglik = sum_in_blocks(dist.logpdf, x)
     if not math.isfinite(loglik):
         raise fail(
             f"a {family} fit must have a finite log-likelihood",

@@ -10,8 +10,9 @@ import numpy as np
 
 from .._validate import DataError, choice, fail
 from ..empirical import as_data
+from ._blockwise import linear_bins
 from .candidate import Candidate
-from .engines import Engine, invert, special
+from .engines import Engine, invert, special, sum_in_blocks
 from .families import scale_of
 
 __all__ = ["KDEEngine", "fit_kde", "fit_kde_to"]
@@ -218,7 +219,7 @@ def fit_kde_to(x: np.ndarray, rule: str) -> Candidate:
     n = x.size
     scale = scale_of(x)  # a power of two: no overflow for data near 1e300
     with np.errstate(over="ignore", invalid="ignore", under="ignore"):
-        s = scale * float(np.std(x / scale, ddof=1))
+        s = scale * float(np.std(x if scale == 1.0 else x / scale, ddof=1))
     h = s * (n ** (-0.2) if rule == "scott" else (0.75 * n) ** (-0.2))
     if not (math.isfinite(h) and h > 0):
         raise fail(
@@ -234,21 +235,13 @@ def fit_kde_to(x: np.ndarray, rule: str) -> Candidate:
         model = KDEEngine(xs, np.full(n, 1.0 / n), h, None)
         note = "exact sum over all points"
     else:
-        delta = h / _KDE_BINS_PER_H
-        t = (xs - xs[0]) / delta
-        j = np.floor(t).astype(np.int64)
-        frac = t - j
-        idx = np.concatenate((j, j + 1))
-        mass = np.concatenate((1.0 - frac, frac)) / n
-        uniq, inv = np.unique(idx, return_inverse=True)
-        w = np.bincount(inv, weights=mass)
-        keep = w > 0
-        c = xs[0] + uniq[keep] * delta
+        c, w = linear_bins(xs, float(xs[0]), h / _KDE_BINS_PER_H, per_point=n)
+        del xs
         window = int(2 * _KDE_CUT * _KDE_BINS_PER_H) + 2
-        model = KDEEngine(c, w[keep] / w[keep].sum(), h, window)
+        model = KDEEngine(c, w / w.sum(), h, window)
         note = f"linear binning of {n} points onto {c.size} grid points (spacing h/16)"
     with np.errstate(all="ignore"):
-        loglik = float(np.sum(model.logpdf(x)))
+        loglik = sum_in_blocks(model.logpdf, x)
     if not math.isfinite(loglik):
         raise fail(
             "a KDE must have a finite log-likelihood",

@@ -9,8 +9,9 @@ import numpy as np
 
 from .._validate import DataError, fail, integer
 from ..empirical import as_data
+from ._blockwise import linear_bins
 from .candidate import Candidate
-from .engines import MixtureEngine
+from .engines import MixtureEngine, sum_in_blocks
 from .families import scale_of, shown
 
 __all__ = ["fit_mixture", "fit_normal_mixture"]
@@ -125,20 +126,6 @@ def _em_blocks(
     return w, mu, var, ll, it
 
 
-def _linear_bins(z: np.ndarray, delta: float) -> tuple[np.ndarray, np.ndarray]:
-    """Linear binning of ``z`` onto a grid of spacing ``delta``: (grid points, counts)."""
-    lo = float(z.min())
-    t = (z - lo) / delta
-    j = np.floor(t).astype(np.int64)
-    frac = t - j
-    idx = np.concatenate((j, j + 1))
-    mass = np.concatenate((1.0 - frac, frac))
-    uniq, inv = np.unique(idx, return_inverse=True)
-    cnt = np.bincount(inv, weights=mass)
-    keep = cnt > 0
-    return lo + uniq[keep] * delta, cnt[keep]
-
-
 def fit_normal_mixture(
     data: ArrayLike,
     k: int,
@@ -208,12 +195,14 @@ def fit_mixture(
 ) -> Candidate:
     """Fit on checked data: seeded starts, the best few run to convergence."""
     scale = scale_of(x)  # a power of two: data at the edges of float64 stay representable
-    xs = x / scale
+    xs = x if scale == 1.0 else x / scale
     center, spread = float(np.mean(xs)), float(np.std(xs))
-    z = (xs - center) / spread  # EM on standardised data
+    z = xs - center  # EM on standardised data (one array, scaled in place)
+    z /= spread
+    del xs
     floor = 1e-6
     binned = z.size > _MIXTURE_BIN_MIN
-    c, cnt = _linear_bins(z, _MIXTURE_BIN_WIDTH) if binned else (z, None)
+    c, cnt = linear_bins(z, float(z.min()), _MIXTURE_BIN_WIDTH) if binned else (z, None)
     wt = np.ones(c.size) if cnt is None else cnt
     loose = []
     n_starts = starts if k > 1 else 1
@@ -241,9 +230,10 @@ def fit_mixture(
     order = np.argsort(mu)
     w, mu, var = w[order], mu[order], var[order]
     mu_x, sd_x = scale * (center + spread * mu), scale * (spread * np.sqrt(var))
+    del z
     model = MixtureEngine(w, mu_x, sd_x)
     with np.errstate(all="ignore"):
-        loglik = float(np.sum(model.logpdf(x)))
+        loglik = sum_in_blocks(model.logpdf, x)
     if not (math.isfinite(loglik) and np.isfinite(mu_x).all() and (sd_x > 0).all()):
         raise fail(
             f"a {k}-component normal mixture must have a finite log-likelihood",

@@ -99,25 +99,25 @@ def _inside(ev: Evaluated) -> tuple[float, float]:
     npts = ev.pts.size
     if npts < 2:
         return 0.0, 0.0
-    levels = ev.level_at_pts()
     t1 = t2 = 0.0
     for lo in range(0, npts - 1, _CHUNK * 4):  # in blocks: temporaries stay small
         hi = min(lo + _CHUNK * 4, npts - 1)
-        q1, q2 = _block(ev, m, lo, hi, levels)
+        q1, q2 = _block(ev, m, lo, hi)
         t1, t2 = t1 + q1, t2 + q2
     return t1, t2
 
 
-def _block(ev: Evaluated, m: Model, lo: int, hi: int, levels: np.ndarray) -> tuple[float, float]:
+def _block(ev: Evaluated, m: Model, lo: int, hi: int) -> tuple[float, float]:
     """The integrals over the pieces ``[pts_j, pts_j+1)``, ``lo ≤ j < hi``."""
     pts = ev.pts[lo : hi + 1]
     h = np.diff(pts)
-    lev = levels[lo:hi]
+    lev = ev.level_at_pts(lo, hi)
     ga = ev.F[lo:hi] - lev  # G just right of a
     gb = ev.F_left[lo + 1 : hi + 1] - lev  # G just left of b
     if m.discrete:  # flat between breakpoints (every atom is one)
         return float(h @ np.abs(ga)), float(h @ (ga * ga))
-    fa, fb = ev.f[lo:hi], ev.f[lo + 1 : hi + 1]
+    f = ev.pdf_at_pts(lo, hi + 1)
+    fa, fb = f[:-1], f[1:]
     with np.errstate(invalid="ignore", divide="ignore", over="ignore"):
         smooth = (
             ~ev.is_bp[lo:hi]

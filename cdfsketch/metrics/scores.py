@@ -37,14 +37,22 @@ def observations(data: ArrayLike) -> SortedSample:
     return SortedSample(as_data(data, distinct=1))
 
 
+_BLOCK = 1 << 18
+
+
 def ks_of(ev: Evaluated) -> float:
     """``sup |F_n - F|`` from both sides of every data value and every atom."""
     s, m = ev.sample, ev.model
-    below = np.r_[0.0, s.levels[:-1]]
-    d = max(
-        float(np.max(np.abs(s.levels - ev.cdf_ux()))),
-        float(np.max(np.abs(below - ev.cdf_left_ux()))),
-    )
+    d = 0.0
+    for j0 in range(0, s.ux.size, _BLOCK):  # in blocks: no temporaries of the data's size
+        j1 = min(j0 + _BLOCK, s.ux.size)
+        lv = s.levels[j0:j1]
+        below = s.levels[j0 - 1 : j1 - 1] if j0 else np.r_[0.0, lv[:-1]]
+        d = max(
+            d,
+            float(np.max(np.abs(lv - ev.cdf_ux(j0, j1)))),
+            float(np.max(np.abs(below - ev.cdf_left_ux(j0, j1)))),
+        )
     ax, _ = m.atom_table()
     if ax.size:
         right = np.searchsorted(s.ys, ax, side="right") / s.n
@@ -57,27 +65,24 @@ def ks_of(ev: Evaluated) -> float:
     return d
 
 
-_BLOCK = 1 << 18
-
-
-def _at_obs(s: SortedSample, at_ux: np.ndarray, i0: int, i1: int) -> np.ndarray:
-    """Values given at the distinct values, for the sorted observations ``i0 … i1-1``."""
-    return at_ux[np.searchsorted(s.ux, s.ys[i0:i1])]
+def _at_obs(s: SortedSample, at_ux: Any, i0: int, i1: int) -> np.ndarray:
+    """``at_ux(j0, j1)`` (values at ``ux[j0:j1]``) for the sorted observations ``i0 … i1-1``."""
+    j = np.searchsorted(s.ux, s.ys[i0:i1])
+    j0 = int(j[0])
+    return at_ux(j0, int(j[-1]) + 1)[j - j0]
 
 
 def ad_of(ev: Evaluated) -> float:
     """Anderson–Darling ``A²`` from the model's CDF and survival function at the data."""
     s = ev.sample
     n = s.n
-    with np.errstate(divide="ignore", invalid="ignore"):
-        logu, log1u = np.log(ev.cdf_ux()), np.log(ev.sf_ux())
     total = 0.0
     for i0 in range(0, n, _BLOCK):  # in blocks: no per-observation arrays of size n
         i1 = min(i0 + _BLOCK, n)
         k = np.arange(i0 + 1, i1 + 1, dtype=float)
-        lu = _at_obs(s, logu, i0, i1)
-        l1 = _at_obs(s, log1u, n - i1, n - i0)[::-1]  # ln(1 - u_{n+1-i})
-        with np.errstate(invalid="ignore"):
+        with np.errstate(divide="ignore", invalid="ignore"):
+            lu = np.log(_at_obs(s, ev.cdf_ux, i0, i1))
+            l1 = np.log(_at_obs(s, ev.sf_ux, n - i1, n - i0))[::-1]  # ln(1 - u_{n+1-i})
             total += float(np.dot(2 * k - 1, lu + l1))
     return float(-n - total / n)
 
@@ -86,12 +91,11 @@ def cvm_of(ev: Evaluated) -> float:
     """Cramér–von Mises ``T`` from the model's CDF at the data."""
     s = ev.sample
     n = s.n
-    F = ev.cdf_ux()
     total = 0.0
     for i0 in range(0, n, _BLOCK):
         i1 = min(i0 + _BLOCK, n)
         k = np.arange(i0 + 1, i1 + 1, dtype=float)
-        total += float(np.sum((_at_obs(s, F, i0, i1) - (2 * k - 1) / (2 * n)) ** 2))
+        total += float(np.sum((_at_obs(s, ev.cdf_ux, i0, i1) - (2 * k - 1) / (2 * n)) ** 2))
     return float(1.0 / (12 * n) + total)
 
 

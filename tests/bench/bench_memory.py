@@ -39,6 +39,7 @@ if mode == "compare":
               *cands]
     run = lambda x: compare(x, models, rng=0, progress=False)
 elif mode == "fit":
+    import scipy.stats  # what the fits import: a fixed cost, not the data's
     from cdfsketch.fit import fit_candidates
     run = lambda x: fit_candidates(x, rng=0, progress=False)
 elif mode == "ecdf":
@@ -48,6 +49,8 @@ elif mode == "editor":
     from cdfsketch import Editor
     run = lambda x: Editor(data=x)
 elif mode == "board":
+    import scipy.stats  # what the board's comparison imports: a fixed cost, not the data's
+    import cdfsketch.metrics
     from cdfsketch import ReviewBoard, Sketch
     run = lambda x: ReviewBoard(x, [Sketch([0, 2, 5, 60], [0, 0.3, 0.8, 1], name="s")], rng=0,
                                 progress=False)
