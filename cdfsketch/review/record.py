@@ -163,9 +163,12 @@ class Review:
         self._fingerprint: Any = None
         self._table: Any = None
         if data is not None:
-            self.data = as_data(data)
-            self.data.setflags(write=False)
-            self._ecdf = ECDF(self.data)
+            # the review's own read-only copy: the caller's array stays theirs (and writable)
+            own = as_data(data)
+            if isinstance(data, np.ndarray) and np.may_share_memory(own, data):
+                own = own.copy()
+            own.setflags(write=False)
+            self.data = own
             self._fingerprint = freeze(data_fingerprint(self.data))
             from ..metrics import compare
 
@@ -180,6 +183,7 @@ class Review:
             for row, c in zip(table.rows, self.candidates, strict=True):
                 row["name"] = c.name
             self._table = table
+            self._ecdf = ECDF(self.data)  # after the comparison: lower peak memory on big data
         self.decision: Any = None
         self._consequences: Consequences | None = None
         self._output_units: Any = freeze({})

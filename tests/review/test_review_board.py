@@ -388,6 +388,15 @@ def test_limits_checked_where_values_enter(tmp_path) -> None:
     assert [p.name for p in tmp_path.iterdir()] == ["at-the-limits.html"]
 
 
+def test_the_review_data_are_read_only_and_the_callers_array_is_not() -> None:
+    mine = np.array([1.0, 2.0, 2.5, 4.0, 7.0])
+    r = Review(mine, [Sketch([0, 4, 10], [0, 0.5, 1], name="a")], holdout=None)
+    with pytest.raises(ValueError, match="read-only"):
+        r.data[0] = 99.0
+    mine[0] = 0.5  # the caller's array is theirs to change; the review keeps its values
+    assert mine[0] == 0.5 and r.data[0] == 1.0
+
+
 def test_decision_is_read_only() -> None:
     r = Review(None, [Sketch([0, 4, 10], [0, 0.5, 1], name="a")])
     d = r.choose("a", by="g", rationale="r")
