@@ -41,6 +41,7 @@ __all__ = [
     "SpecError",
     "choice",
     "first_bad",
+    "flag",
     "integer",
     "mapping",
     "number",
@@ -354,6 +355,30 @@ def choice(
         f"{field} must be one of {listed}",
         quote(value),
         f"Pick one of {listed}.",
+        error=error,
+        field=field,
+        value=value,
+    )
+
+
+def flag(value: Any, *, field: str, error: type[InputError] = InputError) -> bool:
+    """``value`` if it is ``True`` or ``False`` (numpy's bool too; not 0, 1 or text).
+
+    Examples
+    --------
+    >>> flag(True, field="hide_held_out")
+    True
+    >>> flag(1, field="hide_held_out")
+    Traceback (most recent call last):
+    ...
+    cdfsketch._validate.InputError: hide_held_out must be True or False; got int 1. ...
+    """
+    if isinstance(value, bool | np.bool_):
+        return bool(value)
+    raise fail(
+        f"{field} must be True or False",
+        f"{_kind(value)} {quote(value)}",
+        f"Pass {field}=True or {field}=False.",
         error=error,
         field=field,
         value=value,

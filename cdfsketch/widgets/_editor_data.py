@@ -27,10 +27,11 @@ from typing import Any
 
 import numpy as np
 
-from .._validate import number
+from .._streams import root_seed
+from .._validate import flag, number
 from ..empirical import ECDF, as_data
 from ..empirical.band import steps_at
-from ..holdout import holdout_subsample
+from ..holdout import holdout_split, holdout_subsample
 from ..review.layers import histogram
 from ..sketch import Sketch
 from ..spec import data_fingerprint
@@ -61,14 +62,32 @@ class DataView:
     rng : optional
         Seed of the holdout split (:func:`cdfsketch.holdout.holdout_subsample`: up to
         ``HOLDOUT_LIVE`` of the points :func:`cdfsketch.holdout.holdout_split` holds out).
+    hide_held_out : bool
+        Draw the ECDF, band and histogram from the training part only, so the
+        held-out points are unseen and their score is an honest out-of-sample
+        check (``n_shown`` < ``n``). Default: every point is drawn.
     """
 
-    def __init__(self, data: Any, *, level: float, holdout: float | None, rng: Any) -> None:
+    def __init__(
+        self,
+        data: Any,
+        *,
+        level: float,
+        holdout: float | None,
+        rng: Any,
+        hide_held_out: bool = False,
+    ) -> None:
         x = as_data(data)
         self.values = x
         self.n = int(x.size)
+        self.holdout = self._check_holdout(holdout)
+        self.hidden = flag(hide_held_out, field="hide_held_out") and self.holdout > 0
+        root = root_seed(rng)  # one root: the shown part and the scored points from one split
+        shown = x[holdout_split(self.n, fraction=self.holdout, rng=root)[0]] if self.hidden else x
+        self.n_shown = int(shown.size)
         # one sort for the ECDF, its band and outline, and the histogram
-        self.ecdf, xs = ECDF._with_sorted(x)
+        self.ecdf, xs = ECDF._with_sorted(shown)
+        del shown
         self.range = (float(xs[0]), float(xs[-1]))
         self.hist_edges, self.hist_density = histogram(xs, is_sorted=True)
         del xs  # with ties, the sorted copy is not kept
@@ -83,29 +102,34 @@ class DataView:
         self.kept_p_left = np.where(kept > 0, jp[np.maximum(kept - 1, 0)], 0.0)
         self.tolerance = float(out.tolerance)
         # the one holdout split (as compare() makes it): up to HOLDOUT_LIVE of its points
-        self.holdout = float(holdout or 0.0)
         self.held: np.ndarray | None = None
         self.held_size = 0
         if self.holdout > 0:
-            number(
-                holdout,
-                field="holdout",
-                low=0,
-                high=1,
-                low_open=True,
-                high_open=True,
-                example="holdout=0.3",
-            )
             live, held = holdout_subsample(
-                self.n, fraction=self.holdout, size=HOLDOUT_LIVE, rng=rng
+                self.n, fraction=self.holdout, size=HOLDOUT_LIVE, rng=root
             )
             if held:
                 self.held = np.sort(x[live])
                 self.held_size = held
         self.resolution = _resolution(x[:5000], self.range[1] - self.range[0])
-        self.floor = 0.0 if self.range[0] >= 0 else None
-        self.ceiling = 1.0 if self.range[0] >= 0 and self.range[1] <= 1 else None
+        lo, hi = (float(x.min()), float(x.max())) if self.hidden else self.range
+        self.floor = 0.0 if lo >= 0 else None
+        self.ceiling = 1.0 if lo >= 0 and hi <= 1 else None
         self._fingerprint: dict[str, Any] | None = None
+
+    @staticmethod
+    def _check_holdout(holdout: Any) -> float:
+        if holdout is None or (holdout == 0 and not isinstance(holdout, bool)):
+            return 0.0
+        return number(
+            holdout,
+            field="holdout",
+            low=0,
+            high=1,
+            low_open=True,
+            high_open=True,
+            example="holdout=0.3",
+        )
 
     @property
     def fingerprint(self) -> dict[str, Any]:

@@ -20,6 +20,17 @@ from ..tails import BoundedTail
 from ._editor_data import DataView
 from ._editor_html import raw, tag
 
+#: what the holdout score's mark means (its tooltip)
+IN_VIEW_NOTE = (
+    "Mean log density at the held-out points. They are drawn in the plot too, so a curve "
+    "shaped to them scores well: optimistic. Editor(..., hide_held_out=True) draws the "
+    "training part only, for an honest out-of-sample check."
+)
+HIDDEN_NOTE = (
+    "Mean log density at the held-out points, which the plot does not show (it draws the "
+    "training part only): an out-of-sample check of the curve you shaped."
+)
+
 __all__ = ["CAUTION", "checks_html", "readout", "readout_html", "tail_text", "warnings"]
 
 
@@ -131,7 +142,12 @@ def readout_html(r: dict[str, Any], data: DataView | None, sketch: Sketch) -> st
         rows.append((f"{data.level:.0%} band", where))
         if "logscore" in r:
             zero = f", {r['n_outside']} at density 0" if r["n_outside"] else ""
-            rows.append(("holdout score", f"{significant(r['logscore'], 4)} /point{zero}"))
+            key = tag(
+                "span",
+                "holdout (hidden)" if data.hidden else "holdout (in view)",
+                title=HIDDEN_NOTE if data.hidden else IN_VIEW_NOTE,
+            )
+            rows.append((key, f"{significant(r['logscore'], 4)} /point{zero}"))
     cells = [
         tag(
             "tr",

@@ -321,7 +321,13 @@ class Plots:
         items.append(tag("span", swatch("square", palette.LOCKED), "locked knot"))
         if self._data is not None:
             items.append(tag("span", swatch("dot", palette.KNOT_OUTSIDE_BAND), "outside the band"))
-            items.append(tag("span", swatch("line", palette.DATA), "data (ECDF, histogram)"))
+            d = self._data
+            what = (
+                f"training data, {d.n_shown:,} of {d.n:,} (ECDF, histogram)"
+                if d.hidden
+                else "data (ECDF, histogram)"
+            )
+            items.append(tag("span", swatch("line", palette.DATA), what))
             items.append(tag("span", swatch("band", palette.BAND), f"{self._data.level:.0%} band"))
         if self.candidate_line.visible:
             colour = palette.candidate_colour(0)

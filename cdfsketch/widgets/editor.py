@@ -69,6 +69,11 @@ class Editor(EditorInput, w.VBox):
     holdout : float or None
         Fraction of the points held out for the live score
         (:func:`cdfsketch.holdout.holdout_split`; ``None``: none).
+    hide_held_out : bool
+        Draw the ECDF, band and histogram from the training part only, so the
+        held-out points are unseen while you shape the curve and their score
+        is an honest out-of-sample check. Default ``False``: every point is
+        drawn, and the score is marked "in view" (optimistic).
     rng : optional
         Seed of the holdout split and of the sample previews (anything
         ``numpy.random.default_rng`` takes).
@@ -104,6 +109,7 @@ class Editor(EditorInput, w.VBox):
         level: float = 0.95,
         quantiles: Sequence[float] = (0.05, 0.5, 0.95),
         holdout: float | None = 0.3,
+        hide_held_out: bool = False,
         rng: Any = None,
         autosave: str | os.PathLike[str] | None = None,
         candidates: Sequence[Any] | None = None,
@@ -128,7 +134,13 @@ class Editor(EditorInput, w.VBox):
             for i, q in enumerate(quantiles)
         )
         self._root = _streams.root_seed(rng)
-        self._data = None if data is None else DataView(data, level=level, holdout=holdout, rng=rng)
+        self._data = (
+            None
+            if data is None
+            else DataView(
+                data, level=level, holdout=holdout, rng=self._root, hide_held_out=hide_held_out
+            )
+        )
         if sketch is None:
             sketch = self._automatic()
         changes = {k: v for k, v in (("name", name), ("units", units)) if v is not None}

@@ -9,9 +9,10 @@ import pytest
 import traitlets
 from bqplot.traits import array_to_json
 from scipy import stats
+from statsmodels.distributions.empirical_distribution import ECDF as ECDFsm
 
 import cdfsketch
-from cdfsketch import BoundedTail, ExponentialTail, Sketch
+from cdfsketch import BoundedTail, ExponentialTail, InputError, Sketch
 from cdfsketch.elicit import from_quantiles
 from cdfsketch.review import palette
 from cdfsketch.widgets._editor_state import GAP_P, GAP_X, TAIL_MIN
@@ -507,6 +508,30 @@ def test_live_holdout_on_large_data_is_a_subsample_of_the_one_split():
     assert ed.data.held.size == HOLDOUT_LIVE < ed.data.held_size == test.size
     assert np.isin(ed.data.held, x[test]).all() and ed.readout["holdout_subsampled"]
     assert ed.data.range == (x.min(), x.max()) and x.flags.writeable  # the data untouched
+
+
+def test_hide_held_out_draws_the_training_part_and_scores_the_unseen_rest():
+    from cdfsketch.holdout import holdout_split
+
+    x = np.random.default_rng(5).gamma(2.0, 3.0, 400)  # invented, seeded
+    s = Sketch([0, 5, 12, 40], [0, 0.5, 0.85, 1])
+    ed = Editor(x, s, holdout=0.25, rng=7, hide_held_out=True)
+    train, test = holdout_split(x.size, fraction=0.25, rng=7)  # the one split compare() uses
+    # the plot's ECDF is the training part's: statsmodels' ECDF of x[train] is the reference
+    ref = ECDFsm(x[train])
+    np.testing.assert_allclose(ed.data.ecdf.p, ref(ed.data.ecdf.x), rtol=0, atol=1e-15)
+    assert ed.data.n_shown == train.size == 300 and not np.isin(x[test], ed.data.ecdf.x).any()
+    # the score: mean log density at the unseen points (the definition, by hand)
+    assert ed.readout["logscore"] == pytest.approx(float(np.mean(np.log(s.pdf(x[test])))))
+    assert (
+        "holdout (hidden)" in ed._readout_html.value
+        and "training data, 300 of 400" in ed.plots.legend.value
+    )
+    shown = Editor(x, s, holdout=0.25, rng=7)  # default: every point drawn, score marked
+    assert shown.data.n_shown == 400 and "holdout (in view)" in shown._readout_html.value
+    assert shown.readout["logscore"] == ed.readout["logscore"]  # the same held-out points
+    with pytest.raises(InputError, match=r"hide_held_out must be True or False; got int 1"):
+        Editor(x, s, hide_held_out=1)
 
 
 def test_automatic_start_is_a_handful_of_knots_with_a_finite_score(hours):
