@@ -43,7 +43,7 @@ import numpy as np
 from . import _streams
 from ._validate import integer, number
 
-__all__ = ["holdout_split", "holdout_subsample"]
+__all__ = ["holdout_fraction", "holdout_split", "holdout_subsample"]
 
 #: keys drawn and compared per step (memory O(chunk), not O(n))
 _CHUNK = 1 << 20
@@ -119,6 +119,31 @@ def _split_args(n: Any, fraction: Any) -> tuple[int, int]:
         fraction, field="fraction", low=0.0, high=1.0, high_open=True, example="fraction=0.2"
     )
     return n, round(fraction * n)
+
+
+def holdout_fraction(holdout: Any) -> float:
+    """A user's ``holdout=`` option as a fraction: ``None`` or 0 is 0.0 (nothing held out).
+
+    Examples
+    --------
+    >>> holdout_fraction(None), holdout_fraction(0.3)
+    (0.0, 0.3)
+    >>> holdout_fraction(1.0)
+    Traceback (most recent call last):
+    ...
+    cdfsketch._validate.InputError: holdout must be a finite number in (0, 1); got 1.0. ...
+    """
+    if holdout is None or (holdout == 0 and not isinstance(holdout, bool)):
+        return 0.0
+    return number(
+        holdout,
+        field="holdout",
+        low=0.0,
+        high=1.0,
+        low_open=True,
+        high_open=True,
+        example="holdout=0.3 (or None to skip)",
+    )
 
 
 def holdout_split(n: int, *, fraction: float, rng: Any = None) -> tuple[np.ndarray, np.ndarray]:

@@ -11,10 +11,10 @@ import numpy as np
 from .. import _streams
 from .._extras import need
 from .._progress import Progress, ProgressCallback
-from .._validate import InputError, fail, number
+from .._validate import InputError, fail
 from ..empirical import ECDF, as_data, dkw_eps
 from ..empirical.band import check_level
-from ..holdout import holdout_split
+from ..holdout import holdout_fraction, holdout_split
 from ..protocol import Model, as_model
 from .integrals import integrals
 from .sample import Evaluated, SortedSample
@@ -46,17 +46,9 @@ def _holdout_model(m: Model, train: np.ndarray, seed: int) -> tuple[Model | None
 
 def _held_out(n: int, holdout: Any, rng: Any) -> np.ndarray:
     """Indices of the held-out observations (empty when nothing is held out)."""
-    if holdout is None or (holdout == 0 and not isinstance(holdout, bool)):
+    frac = holdout_fraction(holdout)
+    if frac == 0.0:
         return np.empty(0, dtype=np.intp)
-    frac = number(
-        holdout,
-        field="holdout",
-        low=0.0,
-        high=1.0,
-        low_open=True,
-        high_open=True,
-        example="holdout=0.3 (or None to skip)",
-    )
     train, test = holdout_split(n, fraction=frac, rng=rng)
     if test.size < 1 or train.size < 2:
         raise fail(

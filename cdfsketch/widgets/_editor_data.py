@@ -28,10 +28,10 @@ from typing import Any
 import numpy as np
 
 from .._streams import root_seed
-from .._validate import flag, number
+from .._validate import flag
 from ..empirical import ECDF, as_data
 from ..empirical.band import steps_at
-from ..holdout import holdout_split, holdout_subsample
+from ..holdout import holdout_fraction, holdout_split, holdout_subsample
 from ..review.layers import histogram
 from ..sketch import Sketch
 from ..spec import data_fingerprint
@@ -80,7 +80,7 @@ class DataView:
         x = as_data(data)
         self.values = x
         self.n = int(x.size)
-        self.holdout = self._check_holdout(holdout)
+        self.holdout = holdout_fraction(holdout)
         self.hidden = flag(hide_held_out, field="hide_held_out") and self.holdout > 0
         root = root_seed(rng)  # one root: the shown part and the scored points from one split
         shown = x[holdout_split(self.n, fraction=self.holdout, rng=root)[0]] if self.hidden else x
@@ -116,20 +116,6 @@ class DataView:
         self.floor = 0.0 if lo >= 0 else None
         self.ceiling = 1.0 if lo >= 0 and hi <= 1 else None
         self._fingerprint: dict[str, Any] | None = None
-
-    @staticmethod
-    def _check_holdout(holdout: Any) -> float:
-        if holdout is None or (holdout == 0 and not isinstance(holdout, bool)):
-            return 0.0
-        return number(
-            holdout,
-            field="holdout",
-            low=0,
-            high=1,
-            low_open=True,
-            high_open=True,
-            example="holdout=0.3",
-        )
 
     @property
     def fingerprint(self) -> dict[str, Any]:
