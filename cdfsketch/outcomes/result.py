@@ -352,7 +352,7 @@ class Consequences:
             record["statement"] = (
                 f"We checked that the choice matters by {figure(best['difference'])} "
                 f"(± {figure(best['se'])}) on output {best['output']!r} ({best['statistic']}, "
-                f"{best['candidate']!r} minus the chosen {self.candidates[r]!r}; {self.size} "
+                f"{best['candidate']!r} minus the chosen {self.candidates[r]!r}; {self.size:,} "
                 f"draws, common random numbers): {best['verdict']}."
             )
         return record
