@@ -28,7 +28,7 @@ range(0, 3)
 from __future__ import annotations
 
 import functools
-import json
+import pickle
 from collections.abc import Callable
 from dataclasses import dataclass
 from typing import Any
@@ -41,6 +41,7 @@ from ._streams import generator, root_seed
 from ._validate import fail, integer, text
 
 __all__ = [
+    "SHARED_CACHE",
     "U_MAX",
     "U_MIN",
     "WINDOW",
@@ -113,16 +114,27 @@ def check_chunks(size: Any, chunks: Any) -> tuple[int, tuple[int, ...]]:
     """Validate ``size`` and ``chunks``; the size and the chunk lengths.
 
     ``chunks`` is draws per chunk (an int) or the chunk lengths (a tuple
-    summing to ``size``).
+    summing to ``size``; Dask's one-dimensional form ``((4, 6),)`` too).
 
     Examples
     --------
     >>> check_chunks(10, 4)
     (10, (4, 4, 2))
+    >>> check_chunks(10, ((4, 6),))
+    (10, (4, 6))
     """
     n = integer(size, field="size", low=1, example="size=1_000_000")
+    if (
+        isinstance(chunks, tuple | list)
+        and len(chunks) == 1
+        and isinstance(chunks[0], tuple | list)
+    ):
+        chunks = chunks[0]  # Dask's own form for one dimension: ((2, 3),)
     if isinstance(chunks, tuple | list):
-        sizes = tuple(integer(c, field="chunks", low=1, example="chunks=65_536") for c in chunks)
+        sizes = tuple(
+            integer(c, field="chunks", low=1, example="chunks=(65_536, 34_464): the lengths")
+            for c in chunks
+        )
         if sum(sizes) != n:
             raise fail(
                 "chunks must add up to size",
@@ -132,43 +144,50 @@ def check_chunks(size: Any, chunks: Any) -> tuple[int, tuple[int, ...]]:
                 value=chunks,
             )
         return n, sizes
-    c = integer(chunks, field="chunks", low=1, example="chunks=65_536")
+    c = integer(
+        chunks, field="chunks", low=1, example="chunks=65_536 (or a tuple of chunk lengths)"
+    )
     return n, tuple(min(c, n - lo) for lo in range(0, n, c))
 
 
 # ---------------------------------------------------------------- transport
-def to_portable(obj: Any, reader: Callable[[dict], Any] | None = None) -> tuple[Any, Any]:
-    """``obj`` as ``(reader, JSON text)`` for a worker process, or as it is.
+#: values a worker keeps (each with its compiled samplers); a large sketch's tables
+#: can take tens of MB, so the cache is small
+SHARED_CACHE = 8
 
-    A value with a ``to_json()`` travels as its JSON (exact: numbers are
-    written with ``repr``, so the draws are the same bit for bit) and is
-    read back with ``reader`` (e.g. ``Sketch.from_spec``). Values would
-    pickle too; the text is the key of each worker's cache, so the tasks on
-    one worker share one value and its compiled sampler instead of compiling
-    it again for every block. Without a ``reader`` the object travels as it is.
+
+def to_portable(obj: Any, *, shared: bool = True) -> tuple[str, Any]:
+    """``obj`` packed for a worker process: pickled once, read once per worker.
+
+    A ``shared`` value (an immutable Sketch or InputSet) travels as its pickle
+    bytes, which are also the key of each worker's cache: the tasks on one
+    worker share one value, and its compiled samplers, instead of compiling
+    them again for every block. The value arrives exactly as it was sent
+    (knots, tails, provenance). Other objects travel as they are.
 
     Examples
     --------
     >>> from cdfsketch import Sketch
-    >>> s = Sketch([0, 2, 5], [0, 0.5, 1])
-    >>> from_portable(to_portable(s, Sketch.from_spec)).ppf(0.3) == s.ppf(0.3)
-    True
+    >>> s = Sketch([0, 2, 5], [0, 0.5, 1], name="hours")
+    >>> back = from_portable(to_portable(s))
+    >>> back == s, back is from_portable(to_portable(s))
+    (True, True)
     """
-    if reader is None:
-        return (None, obj)
-    return (reader, obj.to_json())
+    if not shared:
+        return ("as-is", obj)
+    return ("shared", pickle.dumps(obj, protocol=pickle.HIGHEST_PROTOCOL))
 
 
-def from_portable(item: tuple[Any, Any]) -> Any:
+def from_portable(item: tuple[str, Any]) -> Any:
     """The value :func:`to_portable` packed (a worker keeps the last few it read)."""
-    reader, obj = item
-    return obj if reader is None else _read_portable(reader, obj)
+    kind, payload = item
+    return _unpickle_shared(payload) if kind == "shared" else payload
 
 
-@functools.lru_cache(maxsize=32)
-def _read_portable(reader: Callable[[dict], Any], text: str) -> Any:
+@functools.lru_cache(maxsize=SHARED_CACHE)
+def _unpickle_shared(blob: bytes) -> Any:
     # Values are immutable, so tasks on one worker share them and their compiled samplers.
-    return reader(json.loads(text))
+    return pickle.loads(blob)
 
 
 # ---------------------------------------------------------------- Dask
@@ -219,13 +238,13 @@ def windows_to_dask(
 
 
 class SketchWindows:
-    """The windows of one sketch drawn as input ``name`` (travels as its spec JSON)."""
+    """The windows of one sketch drawn as input ``name`` (picklable; see :func:`to_portable`)."""
 
     def __init__(self, sketch: Any, name: str) -> None:
         self.sketch, self.name = sketch, name
 
     def __getstate__(self) -> dict[str, Any]:
-        return {"sketch": to_portable(self.sketch, type(self.sketch).from_spec), "name": self.name}
+        return {"sketch": to_portable(self.sketch), "name": self.name}
 
     def __setstate__(self, state: dict[str, Any]) -> None:
         self.sketch, self.name = from_portable(state["sketch"]), state["name"]

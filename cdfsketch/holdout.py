@@ -41,9 +41,9 @@ from typing import Any
 import numpy as np
 
 from . import _streams
-from ._validate import integer, number
+from ._validate import _is_real, fail, integer, number
 
-__all__ = ["holdout_fraction", "holdout_split", "holdout_subsample"]
+__all__ = ["holdout_counts", "holdout_fraction", "holdout_split", "holdout_subsample"]
 
 #: keys drawn and compared per step (memory O(chunk), not O(n))
 _CHUNK = 1 << 20
@@ -133,7 +133,7 @@ def holdout_fraction(holdout: Any) -> float:
     ...
     cdfsketch._validate.InputError: holdout must be a finite number in (0, 1); got 1.0. ...
     """
-    if holdout is None or (holdout == 0 and not isinstance(holdout, bool)):
+    if holdout is None or (_is_real(holdout) and holdout == 0):
         return 0.0
     return number(
         holdout,
@@ -144,6 +144,33 @@ def holdout_fraction(holdout: Any) -> float:
         high_open=True,
         example="holdout=0.3 (or None to skip)",
     )
+
+
+def holdout_counts(n: int, *, fraction: float) -> tuple[int, int]:
+    """How many observations train and how many are held out; an error unless both parts work.
+
+    A split must leave at least 2 observations to train on (an ECDF, a fit)
+    and hold out at least 1.
+
+    Examples
+    --------
+    >>> holdout_counts(10, fraction=0.3)
+    (7, 3)
+    >>> holdout_counts(3, fraction=0.9)
+    Traceback (most recent call last):
+    ...
+    cdfsketch._validate.InputError: holdout must leave at least 2 points for training and 1 ...
+    """
+    n, k = _split_args(n, fraction)
+    if k < 1 or n - k < 2:
+        raise fail(
+            "holdout must leave at least 2 points for training and 1 held out",
+            f"holdout={fraction!r} of {n} points: {n - k} and {k}",
+            "Use more data, a smaller holdout, or holdout=None.",
+            field="holdout",
+            value=fraction,
+        )
+    return n - k, k
 
 
 def holdout_split(n: int, *, fraction: float, rng: Any = None) -> tuple[np.ndarray, np.ndarray]:

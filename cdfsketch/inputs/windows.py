@@ -30,16 +30,19 @@ __all__ = [
     "collect",
     "cut",
     "inputset_to_dask",
-    "pack_inputset",
-    "unpack_inputset",
     "window_uniforms",
 ]
 
 DEPENDENCE = ("iman-conover", "gaussian-copula", "independent")
 
 
-def check_call(size: Any, design: Any, dependence: Any, *, low: int = 0) -> int:
+def check_call(
+    size: Any, design: Any, dependence: Any, *, low: int = 0, stacklevel: int = 3
+) -> int:
     """Validate a sampling call's ``size``, ``design`` and ``dependence``; the size.
+
+    ``stacklevel`` points the Sobol balance warning at the user's line (3: the
+    caller of the public method that calls this).
 
     Examples
     --------
@@ -64,7 +67,7 @@ def check_call(size: Any, design: Any, dependence: Any, *, low: int = 0) -> int:
                 f"not one. Use e.g. size={1 << max(n.bit_length() - 1, 0):,} or "
                 f"{1 << n.bit_length():,}.",
                 UserWarning,
-                stacklevel=4,
+                stacklevel=stacklevel,
             )
     return n
 
@@ -162,35 +165,6 @@ def _join(inputs: Any, parts: list[dict[str, np.ndarray]]) -> Draws:
 
 
 # ---------------------------------------------------------------- workers and Dask
-def pack_inputset(inputs: Any) -> tuple[Any, ...]:
-    """An input set packed for a worker process: each sketch as its spec JSON.
-
-    Each worker keeps the sketches it read (keyed by their text), so the
-    tasks on one worker share one compiled sampler per input instead of
-    compiling it again for every block. The knots, tails and rank targets
-    travel exactly; provenance does not (drawing does not need it).
-
-    Examples
-    --------
-    >>> from cdfsketch import Sketch
-    >>> from cdfsketch.inputs import InputSet
-    >>> ins = InputSet({"a": Sketch([0, 1], [0, 1])})
-    >>> back = unpack_inputset(pack_inputset(ins)).sketches["a"]
-    >>> back.x.tolist() == ins.sketches["a"].x.tolist(), back.ppf(0.25)
-    (True, 0.25)
-    """
-    members = {n: to_portable(sk, type(sk).from_spec) for n, sk in inputs.sketches.items()}
-    pairs = [(a, b, r) for (a, b), r in inputs.rank_corr.items()]
-    return (type(inputs), members, pairs, inputs.name)
-
-
-def unpack_inputset(packed: tuple[Any, ...]) -> Any:
-    """The input set :func:`pack_inputset` packed."""
-    cls, members, pairs, name = packed
-    sketches = {n: from_portable(v) for n, v in members.items()}
-    return cls(sketches, rank_corr={(a, b): r for a, b, r in pairs}, name=name)
-
-
 class InputSetWindows:
     """Window ``k`` of an input set's draws, one column per input (picklable)."""
 
@@ -198,10 +172,10 @@ class InputSetWindows:
         self.inputs, self.design, self.dependence = inputs, design, dependence
 
     def __getstate__(self) -> dict[str, Any]:
-        return {**self.__dict__, "inputs": pack_inputset(self.inputs)}
+        return {**self.__dict__, "inputs": to_portable(self.inputs)}
 
     def __setstate__(self, state: dict[str, Any]) -> None:
-        self.__dict__.update({**state, "inputs": unpack_inputset(state["inputs"])})
+        self.__dict__.update({**state, "inputs": from_portable(state["inputs"])})
 
     def __call__(self, root: Any, k: int, m: int) -> list[np.ndarray]:
         ins = self.inputs
@@ -219,7 +193,7 @@ def inputset_to_dask(
     dependence: str = "iman-conover",
 ) -> dict[str, Any]:
     """``size`` joint draws of an input set as lazy Dask arrays (see ``InputSet.to_dask``)."""
-    n = check_call(size, design, dependence, low=1)
+    n = check_call(size, design, dependence, low=1, stacklevel=4)
     draw = InputSetWindows(inputs, design, dependence)
     table = windows_to_dask(draw, len(inputs.names), n, chunks=chunks, rng=rng)
     return {name: table[:, j] for j, name in enumerate(inputs.names)}

@@ -14,7 +14,7 @@ from .._progress import Progress, ProgressCallback
 from .._validate import InputError, fail
 from ..empirical import ECDF, as_data, dkw_eps
 from ..empirical.band import check_level
-from ..holdout import holdout_fraction, holdout_split
+from ..holdout import holdout_counts, holdout_fraction, holdout_split
 from ..protocol import Model, as_model
 from .integrals import integrals
 from .sample import Evaluated, SortedSample
@@ -49,16 +49,8 @@ def _held_out(n: int, holdout: Any, rng: Any) -> np.ndarray:
     frac = holdout_fraction(holdout)
     if frac == 0.0:
         return np.empty(0, dtype=np.intp)
-    train, test = holdout_split(n, fraction=frac, rng=rng)
-    if test.size < 1 or train.size < 2:
-        raise fail(
-            "holdout must leave at least 2 points for training and 1 held out",
-            f"holdout={holdout!r} of {n} points: {train.size} and {test.size}",
-            "Use more data or holdout=None.",
-            field="holdout",
-            value=holdout,
-        )
-    return test
+    holdout_counts(n, fraction=frac)
+    return holdout_split(n, fraction=frac, rng=rng)[1]
 
 
 def _score_row(ev: Evaluated, eps: float) -> dict[str, Any]:

@@ -14,7 +14,7 @@ import numpy as np
 from .._blocks import from_portable, to_portable
 from .._progress import Progress
 from .._validate import fail
-from ..inputs.windows import pack_inputset, unpack_inputset, window_uniforms
+from ..inputs.windows import window_uniforms
 from ..sketch import Sketch
 from .arguments import per_output, read_numbers
 from .evaluate import ModelError, evaluate_block
@@ -29,7 +29,7 @@ ROUND = 32
 
 
 def _pack(obj: Any) -> tuple[Any, Any]:
-    return to_portable(obj, Sketch.from_spec if isinstance(obj, Sketch) else None)
+    return to_portable(obj, shared=isinstance(obj, Sketch))
 
 
 class Plan:
@@ -38,15 +38,15 @@ class Plan:
     def __init__(self, **kw: Any) -> None:
         self.__dict__.update(kw)
 
-    # Sketches travel as their spec JSON: a worker caches what it read (and its samplers).
+    # Sketches and the input set travel pickled once: a worker caches what it read.
     def __getstate__(self) -> dict[str, Any]:
         state = dict(self.__dict__)
-        state["inputs"] = pack_inputset(self.inputs)
+        state["inputs"] = to_portable(self.inputs)
         state["candidates"] = [_pack(c) for c in self.candidates]
         return state
 
     def __setstate__(self, state: dict[str, Any]) -> None:
-        state["inputs"] = unpack_inputset(state["inputs"])
+        state["inputs"] = from_portable(state["inputs"])
         state["candidates"] = [from_portable(c) for c in state["candidates"]]
         self.__dict__.update(state)
 

@@ -165,7 +165,7 @@ class Review:
         if data is not None:
             # the review's own read-only copy: the caller's array stays theirs (and writable)
             own = as_data(data)
-            if isinstance(data, np.ndarray) and np.may_share_memory(own, data):
+            if own is data or own.base is not None:  # the caller's memory (array, Series, buffer)
                 own = own.copy()
             own.setflags(write=False)
             self.data = own

@@ -28,10 +28,10 @@ from typing import Any
 import numpy as np
 
 from .._streams import root_seed
-from .._validate import flag
+from .._validate import fail, flag
 from ..empirical import ECDF, as_data
 from ..empirical.band import steps_at
-from ..holdout import holdout_fraction, holdout_split, holdout_subsample
+from ..holdout import holdout_counts, holdout_fraction, holdout_split, holdout_subsample
 from ..review.layers import histogram
 from ..sketch import Sketch
 from ..spec import data_fingerprint
@@ -81,13 +81,24 @@ class DataView:
         self.values = x
         self.n = int(x.size)
         self.holdout = holdout_fraction(holdout)
-        self.hidden = flag(hide_held_out, field="hide_held_out") and self.holdout > 0
+        self.hidden = flag(hide_held_out, field="hide_held_out")
+        if self.hidden:
+            if self.holdout == 0.0:
+                raise fail(
+                    "hide_held_out=True needs points held out",
+                    f"holdout={holdout!r}",
+                    "Pass e.g. holdout=0.3, or leave hide_held_out=False.",
+                    field="hide_held_out",
+                    value=hide_held_out,
+                )
+            holdout_counts(self.n, fraction=self.holdout)
         root = root_seed(rng)  # one root: the shown part and the scored points from one split
         shown = x[holdout_split(self.n, fraction=self.holdout, rng=root)[0]] if self.hidden else x
         self.n_shown = int(shown.size)
+        #: what fits may use: all the data, or the training part when the held-out are hidden
+        self.fit_values = shown
         # one sort for the ECDF, its band and outline, and the histogram
         self.ecdf, xs = ECDF._with_sorted(shown)
-        del shown
         self.range = (float(xs[0]), float(xs[-1]))
         self.hist_edges, self.hist_density = histogram(xs, is_sorted=True)
         del xs  # with ties, the sorted copy is not kept
@@ -112,7 +123,7 @@ class DataView:
                 self.held = np.sort(x[live])
                 self.held_size = held
         self.resolution = _resolution(x[:5000], self.range[1] - self.range[0])
-        lo, hi = (float(x.min()), float(x.max())) if self.hidden else self.range
+        lo, hi = self.range  # of the points in view: held-out ones leak nothing
         self.floor = 0.0 if lo >= 0 else None
         self.ceiling = 1.0 if lo >= 0 and hi <= 1 else None
         self._fingerprint: dict[str, Any] | None = None

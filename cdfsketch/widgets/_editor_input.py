@@ -227,7 +227,7 @@ class EditorInput:
         assert self._data is not None
         try:
             self._candidates = list(
-                fit_candidates(self._data.values, rng=self._root, progress=False)
+                fit_candidates(self._data.fit_values, rng=self._root, progress=False)
             )
         except _ERRORS as err:
             self._error(str(err))

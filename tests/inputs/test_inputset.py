@@ -273,3 +273,33 @@ def test_pickles_for_workers():
     again = pickle.loads(pickle.dumps(ins))
     assert again == ins
     np.testing.assert_array_equal(again.sample(10, rng=1)["cost"], ins.sample(10, rng=1)["cost"])
+
+
+def test_the_sobol_balance_warning_points_at_the_callers_line():
+    ins = make()
+    calls = {
+        "sample": lambda: ins.sample(3, rng=1, design="sobol"),
+        "uniforms": lambda: ins.uniforms(3, rng=1, design="sobol"),
+        "blocks": lambda: ins.blocks(3, block=2, rng=1, design="sobol"),
+        "to_dask": lambda: ins.to_dask(3, chunks=2, rng=1, design="sobol"),
+    }
+    for what, call in calls.items():
+        with pytest.warns(UserWarning, match="power of two") as rec:
+            call()
+        assert rec[0].filename == __file__, (what, rec[0].filename)
+
+
+def test_an_input_set_reaches_a_worker_once_and_whole():
+    import pickle
+
+    from cdfsketch._blocks import from_portable, to_portable
+
+    many = InputSet(
+        {f"x{i}": Sketch([0, 1 + i, 10 + i], [0, 0.5, 1], name=f"x{i}") for i in range(40)},
+        provenance={"author": "A. Analyst (invented)"},
+    )
+    packed = pickle.loads(pickle.dumps(to_portable(many)))  # as a task carries it
+    first = from_portable(packed)
+    assert first == many and first.provenance["author"] == "A. Analyst (invented)"
+    again = from_portable(pickle.loads(pickle.dumps(to_portable(many))))
+    assert again is first  # one cached value per worker: its samplers compiled once

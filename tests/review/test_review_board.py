@@ -10,6 +10,7 @@ import json
 from datetime import UTC, datetime
 
 import numpy as np
+import pandas as pd
 import pytest
 
 import cdfsketch
@@ -395,6 +396,15 @@ def test_the_review_data_are_read_only_and_the_callers_array_is_not() -> None:
         r.data[0] = 99.0
     mine[0] = 0.5  # the caller's array is theirs to change; the review keeps its values
     assert mine[0] == 0.5 and r.data[0] == 1.0
+    series = pd.Series(np.arange(1.0, 201.0))  # a pandas view and a raw buffer likewise
+    buffer = memoryview(bytearray(np.arange(1.0, 201.0).tobytes())).cast("d")
+    for theirs in (series, buffer):
+        r = Review(theirs, [Sketch([0, 4, 300], [0, 0.5, 1], name="a")], holdout=None)
+        if isinstance(theirs, pd.Series):
+            theirs.iloc[0] = 1e6
+        else:
+            theirs[0] = -5.0
+        assert r.data[0] == 1.0
 
 
 def test_decision_is_read_only() -> None:

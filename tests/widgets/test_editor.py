@@ -534,6 +534,19 @@ def test_hide_held_out_draws_the_training_part_and_scores_the_unseen_rest():
         Editor(x, s, hide_held_out=1)
 
 
+def test_hidden_held_out_points_stay_out_of_fits_and_splits_must_work():
+    x = np.random.default_rng(8).gamma(2.0, 3.0, 200)  # invented, seeded
+    ed = Editor(x, holdout=0.3, rng=4, hide_held_out=True)
+    ed._fit_candidates()
+    assert ed._candidates and {c.n for c in ed._candidates} == {140}  # the training part only
+    with pytest.raises(InputError, match=r"at least 2 points for training and 1 held out"):
+        Editor(np.arange(3.0), holdout=0.9, hide_held_out=True)
+    with pytest.raises(
+        InputError, match=r"hide_held_out=True needs points held out; got holdout=None"
+    ):
+        Editor(x, holdout=None, hide_held_out=True)
+
+
 def test_automatic_start_is_a_handful_of_knots_with_a_finite_score(hours):
     ed = Editor(hours)
     assert 3 <= len(ed.sketch) <= 7
