@@ -203,7 +203,6 @@ class WindowFill:
 
     def __call__(self, block_info: Any = None) -> np.ndarray:
         lo, hi = block_info[None]["array-location"][0]
-        columns: list[np.ndarray] | None = None
         out: np.ndarray | None = None
         for k in self.layout.blocks_between(lo, hi):
             b_lo, b_hi = self.layout.bounds(k)

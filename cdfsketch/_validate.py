@@ -456,16 +456,9 @@ def values(
     >>> values(3, field="x")
     (array(3.), True)
     """
-    if isinstance(x, str | bytes):
-        raise fail(
-            f"{field} must be numbers",
-            quote(x),
-            "Pass a float or an array of floats.",
-            error=error,
-            field=field,
-            value=x,
-        )
     try:
+        if isinstance(x, str | bytes):  # numpy would read "3" as 3.0
+            raise TypeError
         arr = np.asarray(x, dtype=float)
     except (TypeError, ValueError):
         raise fail(

@@ -2,6 +2,10 @@
 
 from __future__ import annotations
 
+import importlib.util
+from pathlib import Path
+from types import ModuleType
+
 import numpy as np
 
 from cdfsketch import Sketch
@@ -16,3 +20,12 @@ def u_error(sketch: Sketch, u: np.ndarray, x: np.ndarray) -> float:
     fx = sketch.cdf(x)
     fminus = sketch.cdf(np.nextafter(x, -np.inf))
     return float(np.max(np.maximum.reduce([np.zeros_like(u), u - fx, fminus - u])))
+
+
+def load_script(path: Path, name: str | None = None) -> ModuleType:
+    """Import a script that is not in a package (a benchmark, a data generator) by its path."""
+    spec = importlib.util.spec_from_file_location(name or path.stem, path)
+    assert spec is not None and spec.loader is not None
+    module = importlib.util.module_from_spec(spec)
+    spec.loader.exec_module(module)
+    return module

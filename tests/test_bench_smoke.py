@@ -6,10 +6,10 @@ timing assertions do not belong in unit tests on these noisy machines.
 
 from __future__ import annotations
 
-import importlib.util
 from pathlib import Path
 
 import pytest
+from _helpers import load_script
 
 BENCH = Path(__file__).parent / "bench"
 SCRIPTS = sorted([*BENCH.glob("bench_*.py"), *BENCH.glob("fuzz_*.py")])
@@ -26,9 +26,7 @@ SMOKE_KWARGS = {"fuzz_sketches": {"n": 30}}
 @pytest.mark.parametrize("path", SCRIPTS, ids=[p.stem for p in SCRIPTS])
 def test_script_runs_quick(path, capsys, monkeypatch):
     monkeypatch.syspath_prepend(str(path.parent))  # as when run as a script
-    spec = importlib.util.spec_from_file_location(path.stem, path)
-    module = importlib.util.module_from_spec(spec)
-    spec.loader.exec_module(module)
+    module = load_script(path)
     if path.stem in SMOKE_ARGS:
         module.main(*SMOKE_ARGS[path.stem])
     else:

@@ -93,14 +93,6 @@ class Plan:
         return counts
 
 
-def _first_pass(plan: Plan, ks: Sequence[int]) -> list[tuple[int, dict]]:
-    return plan.first_pass(ks)
-
-
-def _second_pass(plan: Plan, ks: Sequence[int], edges: Mapping[str, np.ndarray]) -> dict:
-    return plan.second_pass(ks, edges)
-
-
 def check_bad(plan: Plan, blocks: Mapping[str, Sequence[dict]]) -> None:
     """Raise, naming the candidate and the count, if any output draw is NaN or infinite."""
     for o, bl in blocks.items():
@@ -180,7 +172,7 @@ def on_dask(plan: Plan, chunks: Any, scheduler: Any, bins: int, progress: Any) -
     shared = dask.delayed(plan, pure=True, traverse=False)
     first: list[tuple[int, dict]] = []
     for i, rnd in enumerate(rounds):
-        tasks = [dask.delayed(_first_pass, pure=False)(shared, g) for g in rnd]
+        tasks = [dask.delayed(Plan.first_pass, pure=False)(shared, g) for g in rnd]
         for part in dask.compute(*tasks, scheduler=scheduler):
             first.extend(part)
         report(i + 1, "statistics")
@@ -203,7 +195,7 @@ def on_dask(plan: Plan, chunks: Any, scheduler: Any, bins: int, progress: Any) -
         edges[o] = np.linspace(lo, hi if hi > lo else lo + 1.0, bins + 1)
     counts: dict[str, np.ndarray] = {}
     for i, rnd in enumerate(rounds):
-        tasks = [dask.delayed(_second_pass, pure=False)(shared, g, edges) for g in rnd]
+        tasks = [dask.delayed(Plan.second_pass, pure=False)(shared, g, edges) for g in rnd]
         for part in dask.compute(*tasks, scheduler=scheduler):
             for o, h in part.items():
                 counts[o] = h if o not in counts else counts[o] + h

@@ -42,8 +42,21 @@ def tag(name: str, *content: str, cls: str | None = None, **attrs: object) -> ra
     return raw(f"<{' '.join(parts)}>{body}</{name}>")
 
 
-def swatch(kind: str, colour: str, *, dash: str | None = None) -> raw:
-    """A small SVG legend mark: ``"line"``, ``"band"``, ``"dot"`` or ``"square"``."""
+def swatch(
+    kind: str,
+    colour: str,
+    *,
+    dash: str | None = None,
+    width: int = 22,
+    stroke_width: float = 2,
+    style: str | None = None,
+) -> raw:
+    """A small SVG legend mark: ``"line"``, ``"band"``, ``"dot"`` or ``"square"``.
+
+    ``dash`` is an SVG dash array; ``width`` and ``stroke_width`` size a line mark
+    (the review board draws its candidates' lines a little longer and thicker);
+    ``style`` is for HTML outside the editor, which has no stylesheet of ours.
+    """
     if kind == "band":
         shape = tag("rect", x="0", y="3", width="22", height="8", fill=colour)
     elif kind in ("dot", "square"):
@@ -54,10 +67,14 @@ def swatch(kind: str, colour: str, *, dash: str | None = None) -> raw:
         )
     else:
         shape = tag(
-            "line", x1="0", y1="7", x2="22", y2="7", stroke=colour, stroke_width="2",
-            stroke_dasharray=dash,
+            "line", x1="0", y1="7", x2=str(width), y2="7", stroke=colour,
+            stroke_width=str(stroke_width), stroke_dasharray=dash,
         )  # fmt: skip
-    return tag("svg", shape, cls="cdfsketch-swatch", width="22", height="14", viewBox="0 0 22 14")
+    w = width if kind == "line" else 22
+    return tag(
+        "svg", shape, cls="cdfsketch-swatch", width=str(w), height="14", viewBox=f"0 0 {w} 14",
+        aria_hidden="true", style=style,
+    )  # fmt: skip
 
 
 # The layout rules (see the Editor docstring, "Layout"): the plots take the width; the side

@@ -24,6 +24,7 @@ from ..review import palette
 from ..review.consequence_view import TITLE, consequence_presentation
 from ..review.layers import span
 from ._editor_html import raw, tag
+from ._editor_html import swatch as line_mark
 
 __all__ = [
     "BQ_DASH",
@@ -50,12 +51,11 @@ _SMALL = "display:block;color:#555;font-size:0.92em;font-weight:normal;white-spa
 _DIFF = "display:block;color:#555;font-size:0.92em;font-weight:normal"
 
 
-def swatch(colour: str, dash: str, width: int = 26) -> str:
-    """A legend line in a candidate's colour and dash pattern (SVG)."""
-    return (
-        f'<svg width="{width}" height="10" aria-hidden="true" style="vertical-align:middle">'
-        f'<line x1="1" x2="{width - 1}" y1="5" y2="5" stroke="{colour}" stroke-width="3" '
-        f'stroke-dasharray="{palette.DASH_ARRAY[dash]}"/></svg>'
+def swatch(colour: str, dash: str, width: int = 26) -> raw:
+    """A legend line in a candidate's colour and palette dash name (see ``_editor_html.swatch``)."""
+    dashes = palette.DASH_ARRAY[dash]
+    return line_mark(
+        "line", colour, dash=dashes, width=width, stroke_width=3, style="vertical-align:middle"
     )
 
 

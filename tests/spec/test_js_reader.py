@@ -9,7 +9,6 @@
 
 from __future__ import annotations
 
-import importlib.util
 import json
 import math
 import os
@@ -20,6 +19,7 @@ from typing import Any
 
 import numpy as np
 import pytest
+from _helpers import load_script
 
 ROOT = Path(__file__).resolve().parents[2]
 VECTORS = ROOT / "tests" / "data" / "js-vectors.json"
@@ -27,11 +27,7 @@ SCRIPT = ROOT / "tests" / "data" / "make_js_vectors.py"
 
 
 def _script() -> Any:
-    spec = importlib.util.spec_from_file_location("cdfsketch_make_js_vectors", SCRIPT)
-    assert spec is not None and spec.loader is not None
-    module = importlib.util.module_from_spec(spec)
-    spec.loader.exec_module(module)
-    return module
+    return load_script(SCRIPT, "cdfsketch_make_js_vectors")
 
 
 @pytest.fixture(scope="module")

@@ -7,11 +7,11 @@ corpus (≥ 100,000 inputs) and prints its counts.
 
 from __future__ import annotations
 
-import importlib.util
 from pathlib import Path
 from typing import Any
 
 import pytest
+from _helpers import load_script
 
 from cdfsketch.spec import SpecError, read_json, schema
 from cdfsketch.spec._schema import first_error
@@ -22,11 +22,7 @@ N = 2500
 
 
 def _fuzz() -> Any:
-    spec = importlib.util.spec_from_file_location("cdfsketch_fuzz_specs", SCRIPT)
-    assert spec is not None and spec.loader is not None
-    module = importlib.util.module_from_spec(spec)
-    spec.loader.exec_module(module)
-    return module
+    return load_script(SCRIPT, "cdfsketch_fuzz_specs")
 
 
 @pytest.fixture(scope="module")
